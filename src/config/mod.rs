@@ -1,0 +1,1 @@
+//! RON run files → typed settings (serde; unknown keys are errors).

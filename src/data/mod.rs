@@ -1,0 +1,1 @@
+//! RV tables: reading, validation, instruments.

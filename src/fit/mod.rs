@@ -1,0 +1,1 @@
+//! Fitting: parameters and priors, optimisers, the ensemble sampler.

@@ -1,0 +1,3 @@
+//! RV models: parameters → the star's radial velocity at epochs.
+
+pub mod keplerian;

@@ -1,0 +1,1 @@
+//! Periodograms: generalised Lomb–Scargle, false-alarm probability, window, peeling.
