@@ -1,1 +1,4 @@
-//! Fitting: parameters and priors, optimisers, the ensemble sampler.
+//! Fitting: parameters and priors, the likelihood, optimisers, the ensemble sampler.
+
+pub mod likelihood;
+pub mod params;
