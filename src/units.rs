@@ -129,7 +129,7 @@ mod tests {
         // with Python float division of the published nominal GM values.
         assert_relative_eq!(
             1.0 / M_JUPITER_IN_SUN,
-            1047.565_514_660_477,
+            1_047.565_514_660_477,
             max_relative = 1e-12
         );
         assert_relative_eq!(
