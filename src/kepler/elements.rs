@@ -141,7 +141,8 @@ pub fn state_to_elements(
     let r = pos.norm();
     let h = pos.cross(vel);
     let hn = h.norm();
-    if !(r > 0.0) || !r.is_finite() || !vel.norm().is_finite() || !(hn > 0.0) {
+    let ok = r > 0.0 && r.is_finite() && vel.norm().is_finite() && hn > 0.0;
+    if !ok {
         return Err(ElementsError::Degenerate);
     }
     let v2 = vel.norm_squared();

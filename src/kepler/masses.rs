@@ -106,7 +106,7 @@ pub fn jacobi_planet_masses(
     if signals.len() != out.len() || !(m_star > 0.0 && m_star.is_finite()) {
         return None;
     }
-    if signals.windows(2).any(|w| !(w[0].1 < w[1].1)) {
+    if !signals.windows(2).all(|w| w[0].1 < w[1].1) {
         return None;
     }
     let mut m_inner = m_star;
