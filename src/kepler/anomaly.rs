@@ -6,6 +6,9 @@
 //! planet between star and observer) happens when the planet is nearest the
 //! observer, i.e. at true anomaly ν_c = π/2 − ω⋆: with +Z away from the
 //! observer the planet's z = r sin(ν + ω_p) sin i is then most negative.
+//!
+//! The epoch conversions are plain formulae: the caller passes a validated
+//! period (P > 0, finite), as [`crate::model::keplerian`] does.
 
 use std::f64::consts::{FRAC_PI_2, PI, TAU};
 
@@ -100,4 +103,40 @@ pub fn time_of_conjunction(t_peri: f64, period: f64, e: f64, omega_star: f64) ->
 #[inline]
 pub fn periastron_from_conjunction(t_conj: f64, period: f64, e: f64, omega_star: f64) -> f64 {
     t_conj - mean_anomaly_at_conjunction(e, omega_star) * period / TAU
+}
+
+/// Mean anomaly from the mean longitude λ = M + ω_p + Ω (radians), the
+/// inverse of [`mean_longitude`], reduced to [0, 2π).
+#[inline]
+pub fn mean_anomaly_from_longitude(lambda: f64, omega_planet: f64, node: f64) -> f64 {
+    (lambda - omega_planet - node).rem_euclid(TAU)
+}
+
+/// Mean anomaly (radians, in [0, 2π)) at `epoch` (days) of an orbit (P, e,
+/// ω⋆) with an inferior conjunction at `t_conj`: the conjunction's mean
+/// anomaly ([`mean_anomaly_at_conjunction`]) advanced by 2π (t − t_c) / P.
+#[inline]
+pub fn mean_anomaly_from_conjunction(
+    epoch: f64,
+    t_conj: f64,
+    period: f64,
+    e: f64,
+    omega_star: f64,
+) -> f64 {
+    (mean_anomaly_at_conjunction(e, omega_star) + mean_anomaly_at(epoch, t_conj, period))
+        .rem_euclid(TAU)
+}
+
+/// Time of inferior conjunction (days) from the mean anomaly `m` at `epoch`
+/// of an orbit (P, e, ω⋆): the first conjunction at or after the periastron
+/// passage [`time_of_periastron`]`(epoch, m, P)`.
+#[inline]
+pub fn conjunction_from_mean_anomaly(
+    epoch: f64,
+    m: f64,
+    period: f64,
+    e: f64,
+    omega_star: f64,
+) -> f64 {
+    time_of_conjunction(time_of_periastron(epoch, m, period), period, e, omega_star)
 }

@@ -123,9 +123,11 @@ pub fn orbit_rotation(inc: f64, node: f64, omega: f64) -> (Vector3<f64>, Vector3
 /// Undefined angles are returned by documented rules:
 /// - i = 0 or π (node undefined): Ω = 0, and ω is measured from +X
 ///   (it becomes the longitude of pericentre ϖ = Ω ± ω).
-/// - e = 0 (pericentre undefined; in practice e < 1e-12): ω = 0, and the
-///   mean anomaly is the argument of latitude u measured from the node
-///   (from +X when the node is also undefined).
+/// - e = 0 (pericentre undefined; in practice |e vector| ≤ 1e-12, which is
+///   then set to e = 0 exactly): ω = 0, and the mean anomaly is the
+///   argument of latitude u measured from the node (from +X when the node
+///   is also undefined). The state is reproduced to ≈ 1e-12 a.
+/// - The node counts as undefined when |k × h| ≤ 1e-14 |h|.
 ///
 /// All returned angles are in [0, 2π) except i ∈ [0, π].
 pub fn state_to_elements(
@@ -139,7 +141,8 @@ pub fn state_to_elements(
     let r = pos.norm();
     let h = pos.cross(vel);
     let hn = h.norm();
-    if !(r > 0.0) || !r.is_finite() || !vel.norm().is_finite() || !(hn > 0.0) {
+    let ok = r > 0.0 && r.is_finite() && vel.norm().is_finite() && hn > 0.0;
+    if !ok {
         return Err(ElementsError::Degenerate);
     }
     let v2 = vel.norm_squared();
@@ -150,7 +153,8 @@ pub fn state_to_elements(
     let a = -mu / (2.0 * energy);
     let evec = vel.cross(&h) / mu - pos / r;
     let mut e = evec.norm();
-    let inc = (h.z / hn).clamp(-1.0, 1.0).acos();
+    // atan2 rather than acos(h_z/|h|): well conditioned near i = 0 and π.
+    let inc = h.x.hypot(h.y).atan2(h.z);
     // Node vector k × h = (−h_y, h_x, 0).
     let nvec = Vector3::new(-h.y, h.x, 0.0);
     let nn = nvec.norm();

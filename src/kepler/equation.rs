@@ -29,7 +29,8 @@ pub struct EccentricAnomaly {
     pub sin_e: f64,
     /// cos E.
     pub cos_e: f64,
-    /// Number of corrections applied after the starter (1 is typical).
+    /// Number of corrections applied after the starter (1 is typical; 0
+    /// only for e = 0, where E = M exactly).
     pub corrections: usize,
 }
 
@@ -70,7 +71,10 @@ fn markley_starter(m: f64, e: f64) -> f64 {
     let d = 3.0 * (1.0 - e) + alpha * e;
     let q = 2.0 * alpha * d * (1.0 - e) - m * m;
     let r = 3.0 * alpha * d * (d - 1.0 + e) * m + m * m * m;
-    let w = (r.abs() + (q * q * q + r * r).sqrt()).powf(2.0 / 3.0);
+    // (|r| + √(q³ + r²))^{2/3} as a squared cube root: `cbrt` is several
+    // times cheaper than `powf` and exact to rounding.
+    let cr = (r.abs() + (q * q * q + r * r).sqrt()).cbrt();
+    let w = cr * cr;
     (2.0 * r * w / (w * w + w * q + q * q) + m) / d
 }
 
@@ -105,12 +109,14 @@ pub fn solve_kepler(mean_anomaly: f64, e: f64) -> Option<EccentricAnomaly> {
     let mut ecc = markley_starter(m_red, e);
     let (mut s, mut c) = ecc.sin_cos();
     let mut corrections = 0;
+    // At least one correction is always applied: near e → 1 and M → 0 the
+    // starter's residual can be below the tolerance while E is still off
+    // in relative terms (f′ = 1 − e cos E ≪ 1 there), and one correction
+    // makes E accurate to rounding. Further ones only run if the residual
+    // is still above [`KEPLER_TOLERANCE`] (not seen on a dense grid).
+    let mut f0 = ecc - e * s - m_red;
     loop {
         // f(E) = E − e sin E − M and its derivatives.
-        let f0 = ecc - e * s - m_red;
-        if f0.abs() <= KEPLER_TOLERANCE || corrections == MAX_CORRECTIONS {
-            break;
-        }
         let f1 = 1.0 - e * c;
         let f2 = e * s;
         let f3 = e * c;
@@ -121,6 +127,7 @@ pub fn solve_kepler(mean_anomaly: f64, e: f64) -> Option<EccentricAnomaly> {
         let d5 = -f0 / (f1 + 0.5 * d4 * f2 + d4 * d4 * f3 / 6.0 + d4 * d4 * d4 * f4 / 24.0);
         ecc += d5;
         if d5.abs() < 0.1 {
+            // sin/cos of E + δ by angle addition, re-using sin E, cos E.
             let (sd, cd) = small_sin_cos(d5);
             let s_new = s * cd + c * sd;
             c = c * cd - s * sd;
@@ -131,6 +138,10 @@ pub fn solve_kepler(mean_anomaly: f64, e: f64) -> Option<EccentricAnomaly> {
             c = sc.1;
         }
         corrections += 1;
+        f0 = ecc - e * s - m_red;
+        if f0.abs() <= KEPLER_TOLERANCE || corrections == MAX_CORRECTIONS {
+            break;
+        }
     }
     Some(EccentricAnomaly {
         e_anom: ecc + turn,

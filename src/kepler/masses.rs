@@ -26,12 +26,21 @@ pub fn mass_function(period: f64, k_m_s: f64, e: f64) -> f64 {
 /// The planet mass m (M☉) from the semi-amplitude `k_m_s` (m/s), period
 /// (days), eccentricity and sin i, given the interior mass `m_inner`
 /// (M☉: the star plus all planets inside this one's Jacobi orbit, without
-/// this planet). Solves m³ sin³ i = f (m_inner + m)² exactly by Newton's
-/// method on φ(m) = m − (f / sin³ i)^{1/3} (m_inner + m)^{2/3}, which is
-/// monotonic and convex for m > 0.
+/// this planet).
 ///
-/// `sin_i = 1` gives the minimum mass m sin i. Returns `None` for
-/// non-positive or non-finite input.
+/// Solves m³ sin³ i = f (m_inner + m)² exactly, with f the
+/// [`mass_function`]. With u = m / (m_inner + m) ∈ [0, 1) the equation
+/// becomes the depressed cubic u³ + q u − q = 0, q = f / (sin³ i · m_inner),
+/// whose single real root (the left side increases monotonically in u) is
+/// given in closed form by Cardano's formula with Vieta's substitution,
+/// u = w − q / (3w), w = ∛(q/2 · (1 + √(1 + 4q/27))), free of cancellation
+/// for small q; two Newton steps on the cubic polish it to rounding for
+/// any q. The mass then follows without cancellation from the cubic itself:
+/// 1 − u = u³ / q, so m = m_inner · q / u².
+///
+/// `sin_i = 1` gives the minimum mass m sin i (see [`minimum_mass`]).
+/// Returns `None` for negative, zero (except K = 0, which gives m = 0) or
+/// non-finite input, e outside [0, 1) or sin i outside (0, 1].
 ///
 /// ```
 /// use apsidal::kepler::{planet_mass, semi_amplitude};
@@ -55,38 +64,78 @@ pub fn planet_mass(k_m_s: f64, period: f64, e: f64, sin_i: f64, m_inner: f64) ->
     if k_m_s == 0.0 {
         return Some(0.0);
     }
+    let sin_i = sin_i.min(1.0);
     let f = mass_function(period, k_m_s, e);
-    let c = (f / (sin_i * sin_i * sin_i)).cbrt();
-    // Start from the small-planet solution; φ is convex, so Newton from
-    // below converges monotonically.
-    let mut m = c * m_inner.powf(2.0 / 3.0);
-    for _ in 0..100 {
-        let tot = m_inner + m;
-        let t23 = tot.powf(2.0 / 3.0);
-        let phi = m - c * t23;
-        let dphi = 1.0 - (2.0 / 3.0) * c * t23 / tot;
-        if dphi <= 0.0 {
-            // The planet would outweigh the whole interior by far: the
-            // iteration is still well defined from above; take a
-            // bisection-safe step.
-            m *= 2.0;
-            continue;
-        }
-        let step = phi / dphi;
-        m -= step;
-        if step.abs() <= 1e-15 * m.abs() {
-            break;
-        }
+    let q = f / (sin_i * sin_i * sin_i * m_inner);
+    if !(q > 0.0 && q.is_finite()) {
+        return None;
     }
-    (m.is_finite() && m >= 0.0).then_some(m)
+    // Cardano–Vieta root of u³ + q u − q = 0.
+    let w = (0.5 * q * (1.0 + (1.0 + 4.0 * q / 27.0).sqrt())).cbrt();
+    let mut u = w - q / (3.0 * w);
+    for _ in 0..2 {
+        let g = u * u * u + q * u - q;
+        let dg = 3.0 * u * u + q;
+        u -= g / dg;
+    }
+    let m = m_inner * q / (u * u);
+    (m.is_finite() && m > 0.0).then_some(m)
+}
+
+/// Minimum planet mass m sin i (M☉): [`planet_mass`] with i = 90°, i.e. the
+/// true mass of an edge-on orbit, solved exactly with the interior mass
+/// `m_inner` (M☉, without this planet).
+#[inline]
+pub fn minimum_mass(k_m_s: f64, period: f64, e: f64, m_inner: f64) -> Option<f64> {
+    planet_mass(k_m_s, period, e, 1.0, m_inner)
+}
+
+/// Masses (M☉) of several planets from their signals, each with its Jacobi
+/// interior mass (DESIGN §3): planet k (ordered by period, innermost
+/// first) is solved with m_inner = M⋆ + m_1 + … + m_{k−1}.
+///
+/// `signals` holds, per planet, (K in m/s, P in days, e, sin i); the masses
+/// are written into `out` (same length). Returns `None` if the lengths
+/// differ, the periods are not increasing, or any planet's input is invalid
+/// (see [`planet_mass`]).
+pub fn jacobi_planet_masses(
+    m_star: f64,
+    signals: &[(f64, f64, f64, f64)],
+    out: &mut [f64],
+) -> Option<()> {
+    if signals.len() != out.len() || !(m_star > 0.0 && m_star.is_finite()) {
+        return None;
+    }
+    if !signals.windows(2).all(|w| w[0].1 < w[1].1) {
+        return None;
+    }
+    let mut m_inner = m_star;
+    for (&(k, p, e, sin_i), o) in signals.iter().zip(out.iter_mut()) {
+        let m = planet_mass(k, p, e, sin_i, m_inner)?;
+        *o = m;
+        m_inner += m;
+    }
+    Some(())
 }
 
 /// Semi-amplitude K (m/s) of the star's reflex motion from the planet mass
 /// `m` (M☉), period (days), eccentricity, sin i and interior mass
 /// `m_inner` (M☉, without this planet):
-/// K = (2πG / P)^{1/3} m sin i / (m_inner + m)^{2/3} / √(1 − e²).
+/// K = (2πG / P)^{1/3} m sin i / (m_inner + m)^{2/3} / √(1 − e²), the
+/// two-body result (e.g. Lovis & Fischer 2010, in *Exoplanets*, ed. Seager)
+/// with the Jacobi interior mass of DESIGN §3.
+///
+/// Returns `None` for a negative or non-finite mass, P ≤ 0, e outside
+/// [0, 1), sin i outside [0, 1] or a non-positive interior mass.
 pub fn semi_amplitude(m: f64, period: f64, e: f64, sin_i: f64, m_inner: f64) -> Option<f64> {
-    let ok = m >= 0.0 && m.is_finite() && period > 0.0 && (0.0..1.0).contains(&e) && m_inner > 0.0;
+    let ok = m >= 0.0
+        && m.is_finite()
+        && period > 0.0
+        && period.is_finite()
+        && (0.0..1.0).contains(&e)
+        && (0.0..=1.0).contains(&sin_i)
+        && m_inner > 0.0
+        && m_inner.is_finite();
     if !ok {
         return None;
     }
