@@ -1,4 +1,6 @@
-//! Fitting: parameters and priors, the likelihood, optimisers, the ensemble sampler.
+//! Fitting: parameters and priors, the likelihood, the models to fit,
+//! optimisers, the ensemble sampler.
 
 pub mod likelihood;
+pub mod models;
 pub mod params;

@@ -29,6 +29,15 @@ pub enum Prior {
         /// Upper bound.
         upper: f64,
     },
+    /// Uniform over one period of an angle-like parameter, [lower, upper):
+    /// the value wraps around (e.g. a mean longitude in degrees on
+    /// [0, 360)), so optimisers and samplers move freely across the seam.
+    Periodic {
+        /// Start of the period.
+        lower: f64,
+        /// End of the period.
+        upper: f64,
+    },
     /// Gaussian with the given mean and standard deviation, optionally
     /// truncated to [lower, upper].
     Gaussian {
@@ -103,7 +112,9 @@ impl Prior {
     /// The support [lower, upper] of the prior (infinite where unbounded).
     pub fn support(&self) -> (f64, f64) {
         match *self {
-            Prior::Uniform { lower, upper } | Prior::LogUniform { lower, upper } => (lower, upper),
+            Prior::Uniform { lower, upper }
+            | Prior::LogUniform { lower, upper }
+            | Prior::Periodic { lower, upper } => (lower, upper),
             Prior::Gaussian { lower, upper, .. } => (
                 lower.unwrap_or(f64::NEG_INFINITY),
                 upper.unwrap_or(f64::INFINITY),
@@ -118,7 +129,9 @@ impl Prior {
             what,
         };
         match *self {
-            Prior::Uniform { lower, upper } | Prior::LogUniform { lower, upper } => {
+            Prior::Uniform { lower, upper }
+            | Prior::LogUniform { lower, upper }
+            | Prior::Periodic { lower, upper } => {
                 if !lower.is_finite() {
                     return Err(nf("lower bound"));
                 }
@@ -182,7 +195,7 @@ impl Prior {
             return f64::NEG_INFINITY;
         }
         match *self {
-            Prior::Uniform { .. } => 0.0,
+            Prior::Uniform { .. } | Prior::Periodic { .. } => 0.0,
             Prior::LogUniform { .. } => -x.ln(),
             Prior::Gaussian { mean, sigma, .. } => {
                 let z = (x - mean) / sigma;
@@ -196,13 +209,18 @@ impl Prior {
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Transform {
     Identity,
+    Wrap { lower: f64, upper: f64 },
     Logistic { lower: f64, upper: f64 },
     LowerExp { lower: f64 },
     UpperExp { upper: f64 },
 }
 
 impl Transform {
-    fn for_support(lo: f64, hi: f64) -> Self {
+    fn for_prior(prior: &Prior) -> Self {
+        if let Prior::Periodic { lower, upper } = *prior {
+            return Transform::Wrap { lower, upper };
+        }
+        let (lo, hi) = prior.support();
         match (lo.is_finite(), hi.is_finite()) {
             (true, true) => Transform::Logistic {
                 lower: lo,
@@ -218,6 +236,7 @@ impl Transform {
     fn forward(&self, u: f64) -> (f64, f64) {
         match *self {
             Transform::Identity => (u, 0.0),
+            Transform::Wrap { lower, upper } => (wrap_into(u, lower, upper), 0.0),
             Transform::Logistic { lower, upper } => {
                 // Numerically stable logistic and its log-derivative.
                 let s = if u >= 0.0 {
@@ -239,6 +258,7 @@ impl Transform {
     fn inverse(&self, x: f64) -> f64 {
         match *self {
             Transform::Identity => x,
+            Transform::Wrap { lower, upper } => wrap_into(x, lower, upper),
             Transform::Logistic { lower, upper } => {
                 let w = upper - lower;
                 let s = ((x - lower) / w).clamp(1e-12, 1.0 - 1e-12);
@@ -248,6 +268,14 @@ impl Transform {
             Transform::UpperExp { upper } => (upper - x).max(f64::MIN_POSITIVE).ln(),
         }
     }
+}
+
+/// x wrapped into [lower, upper).
+#[inline]
+fn wrap_into(x: f64, lower: f64, upper: f64) -> f64 {
+    let w = upper - lower;
+    let y = lower + (x - lower).rem_euclid(w);
+    if y >= upper { lower } else { y }
 }
 
 /// ln(1 + e^x) without overflow.
@@ -312,7 +340,8 @@ impl ParameterSet {
                 });
             }
             let (lo, hi) = p.prior.support();
-            if !(p.value >= lo && p.value <= hi) {
+            let periodic = matches!(p.prior, Prior::Periodic { .. });
+            if !periodic && !(p.value >= lo && p.value <= hi) {
                 return Err(ParamError::OutsideRange {
                     name: p.name.clone(),
                     value: p.value,
@@ -324,10 +353,7 @@ impl ParameterSet {
         let free: Vec<usize> = (0..params.len()).filter(|&i| !params[i].fixed).collect();
         let transforms = params
             .iter()
-            .map(|p| {
-                let (lo, hi) = p.prior.support();
-                Transform::for_support(lo, hi)
-            })
+            .map(|p| Transform::for_prior(&p.prior))
             .collect();
         Ok(ParameterSet {
             params,
@@ -455,7 +481,10 @@ impl ParameterSet {
         let mut out = self.clone();
         for (p, &v) in out.params.iter_mut().zip(full) {
             let (lo, hi) = p.prior.support();
-            p.value = v.clamp(lo, hi);
+            p.value = match p.prior {
+                Prior::Periodic { .. } => wrap_into(v, lo, hi),
+                _ => v.clamp(lo, hi),
+            };
         }
         Ok(out)
     }
@@ -611,6 +640,24 @@ mod tests {
             ),
         ]);
         assert!(matches!(bad, Err(ParamError::Duplicate(_))));
+    }
+
+    #[test]
+    fn periodic_parameters_wrap() {
+        let set = ParameterSet::new(vec![p(
+            "lam",
+            370.0,
+            Prior::Periodic {
+                lower: 0.0,
+                upper: 360.0,
+            },
+        )])
+        .unwrap();
+        let u = set.start_unconstrained();
+        assert!((u[0] - 10.0).abs() < 1e-12);
+        let full = set.full_from_unconstrained(&[725.0]).unwrap();
+        assert!((full[0] - 5.0).abs() < 1e-12);
+        assert_eq!(set.ln_prior(&full), 0.0);
     }
 
     #[test]

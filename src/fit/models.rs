@@ -1,0 +1,378 @@
+//! The RV models one can fit, and the map from a named parameter vector to
+//! each model's RVs, the likelihood and the posterior.
+//!
+//! Parameter names (our own; the `config` layer builds them from a run
+//! file). Per planet `p` (ordered by period): `p.period` (d),
+//! `p.semi_amplitude` (m/s), `p.sqrt_e_cos_w` and `p.sqrt_e_sin_w`
+//! (√e cos ω⋆, √e sin ω⋆), `p.mean_longitude` (deg; λ = M + ω_p + Ω with
+//! the planet's ω_p = ω⋆ + 180° and Ω_1 = 0) at the reference epoch; for
+//! the dynamical models `p.inclination` (deg, 90 = edge-on; one shared
+//! `sin_i` in the coplanar model with free sin i) and, from the second
+//! planet on in the three-dimensional model, `p.node_difference` (deg,
+//! ΔΩ_k = Ω_k − Ω_1). Per instrument `i`: `i.offset` and `i.jitter` (m/s).
+//! Optional trend: `trend.slope` (m/s/d) and `trend.curvature` (m/s/d²).
+
+use serde::{Deserialize, Serialize};
+
+use super::likelihood::{chi_square, ln_likelihood};
+use super::params::{ParamError, ParameterSet, ecc_omega_from_sqrt_basis};
+use crate::model::keplerian::{KeplerianParams, PlanetSignal, Trend, keplerian_model_rv};
+
+/// Which RV model is fitted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum ModelKind {
+    /// A sum of independent Keplerian signals.
+    Keplerian,
+    /// N-body, all orbits coplanar and edge-on (i = 90°, ΔΩ = 0).
+    CoplanarEdgeOn,
+    /// N-body, coplanar (ΔΩ = 0) with one shared free sin i.
+    CoplanarSinI,
+    /// N-body, each planet with its own inclination and (from the second
+    /// planet on) node difference ΔΩ.
+    ThreeDimensional,
+}
+
+/// Polynomial trend of the RV about the reference epoch.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+pub enum TrendKind {
+    /// No trend.
+    #[default]
+    None,
+    /// Linear: `trend.slope`.
+    Linear,
+    /// Quadratic: `trend.slope` and `trend.curvature`.
+    Quadratic,
+}
+
+/// RV measurements prepared for fitting: epochs (days), RVs and errors
+/// (m/s) and an instrument index per point into `instruments`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Observations {
+    /// Epochs in days.
+    pub t: Vec<f64>,
+    /// RVs in m/s.
+    pub rv: Vec<f64>,
+    /// 1σ errors in m/s.
+    pub err: Vec<f64>,
+    /// Instrument index of each point.
+    pub inst: Vec<usize>,
+    /// Instrument names.
+    pub instruments: Vec<String>,
+}
+
+impl Observations {
+    /// Number of points.
+    pub fn len(&self) -> usize {
+        self.t.len()
+    }
+
+    /// True when there are no points.
+    pub fn is_empty(&self) -> bool {
+        self.t.is_empty()
+    }
+}
+
+/// Why a parameter vector could not be turned into a model.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ModelError {
+    /// A parameter the model needs is absent from the set.
+    #[error("the model needs parameter `{0}`, which is not defined")]
+    MissingParameter(String),
+    /// Eccentricity would be ≥ 1.
+    #[error("planet `{0}`: eccentricity ≥ 1")]
+    Eccentricity(String),
+    /// The model could not be evaluated (reason given).
+    #[error("model cannot be evaluated: {0}")]
+    Evaluation(String),
+    /// Parameter handling failed.
+    #[error(transparent)]
+    Param(#[from] ParamError),
+}
+
+/// Where each named quantity sits in the full parameter vector.
+#[derive(Debug, Clone, PartialEq)]
+struct PlanetSlots {
+    name: String,
+    period: usize,
+    semi_amplitude: usize,
+    sqrt_e_cos_w: usize,
+    sqrt_e_sin_w: usize,
+    mean_longitude: usize,
+    inclination: Option<usize>,
+    node_difference: Option<usize>,
+}
+
+/// A fittable RV model: the data, the model kind, the parameter set and
+/// the layout of the parameter vector.
+#[derive(Debug, Clone)]
+pub struct RvModel {
+    /// The data.
+    pub obs: Observations,
+    /// Which model.
+    pub kind: ModelKind,
+    /// Stellar mass in M☉ (for the dynamical models and derived masses).
+    pub star_mass: f64,
+    /// Reference epoch (days).
+    pub t_ref: f64,
+    /// The parameters.
+    pub params: ParameterSet,
+    trend: TrendKind,
+    planets: Vec<PlanetSlots>,
+    offsets: Vec<usize>,
+    jitters: Vec<usize>,
+    slope: Option<usize>,
+    curvature: Option<usize>,
+    sin_i: Option<usize>,
+}
+
+/// A parameter vector decoded into physical quantities.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DecodedPlanet {
+    /// Planet name.
+    pub name: String,
+    /// Period in days.
+    pub period: f64,
+    /// Semi-amplitude in m/s.
+    pub semi_amplitude: f64,
+    /// Eccentricity.
+    pub eccentricity: f64,
+    /// ω⋆ in radians.
+    pub omega_star: f64,
+    /// Mean anomaly at t_ref in radians.
+    pub mean_anomaly: f64,
+    /// Inclination in radians (π/2 for the Keplerian and edge-on models).
+    pub inclination: f64,
+    /// Node difference ΔΩ in radians (0 for the innermost and coplanar).
+    pub node: f64,
+}
+
+impl RvModel {
+    /// Lay out a model over `params`, which must define every parameter
+    /// the kind needs (see the module docs for names). `planet_names` in
+    /// order of period.
+    pub fn new(
+        obs: Observations,
+        kind: ModelKind,
+        star_mass: f64,
+        t_ref: f64,
+        planet_names: &[String],
+        trend: TrendKind,
+        params: ParameterSet,
+    ) -> Result<Self, ModelError> {
+        let need = |name: String| {
+            params
+                .index_of(&name)
+                .ok_or(ModelError::MissingParameter(name))
+        };
+        let mut planets = Vec::with_capacity(planet_names.len());
+        for (k, p) in planet_names.iter().enumerate() {
+            let inclination = match kind {
+                ModelKind::ThreeDimensional => Some(need(format!("{p}.inclination"))?),
+                _ => None,
+            };
+            let node_difference = match kind {
+                ModelKind::ThreeDimensional if k > 0 => Some(need(format!("{p}.node_difference"))?),
+                _ => None,
+            };
+            planets.push(PlanetSlots {
+                name: p.clone(),
+                period: need(format!("{p}.period"))?,
+                semi_amplitude: need(format!("{p}.semi_amplitude"))?,
+                sqrt_e_cos_w: need(format!("{p}.sqrt_e_cos_w"))?,
+                sqrt_e_sin_w: need(format!("{p}.sqrt_e_sin_w"))?,
+                mean_longitude: need(format!("{p}.mean_longitude"))?,
+                inclination,
+                node_difference,
+            });
+        }
+        let offsets = obs
+            .instruments
+            .iter()
+            .map(|i| need(format!("{i}.offset")))
+            .collect::<Result<Vec<_>, _>>()?;
+        let jitters = obs
+            .instruments
+            .iter()
+            .map(|i| need(format!("{i}.jitter")))
+            .collect::<Result<Vec<_>, _>>()?;
+        let slope = match trend {
+            TrendKind::None => None,
+            _ => Some(need("trend.slope".into())?),
+        };
+        let curvature = match trend {
+            TrendKind::Quadratic => Some(need("trend.curvature".into())?),
+            _ => None,
+        };
+        let sin_i = match kind {
+            ModelKind::CoplanarSinI => Some(need("sin_i".into())?),
+            _ => None,
+        };
+        Ok(RvModel {
+            obs,
+            kind,
+            star_mass,
+            t_ref,
+            params,
+            trend,
+            planets,
+            offsets,
+            jitters,
+            slope,
+            curvature,
+            sin_i,
+        })
+    }
+
+    /// Number of planets.
+    pub fn n_planets(&self) -> usize {
+        self.planets.len()
+    }
+
+    /// Planets' physical quantities from a full parameter vector.
+    pub fn decode_planets(&self, full: &[f64]) -> Result<Vec<DecodedPlanet>, ModelError> {
+        let edge_on = std::f64::consts::FRAC_PI_2;
+        let shared_inc = self.sin_i.map(|i| full[i].clamp(-1.0, 1.0).asin());
+        self.planets
+            .iter()
+            .map(|s| {
+                let (e, w) = ecc_omega_from_sqrt_basis(full[s.sqrt_e_cos_w], full[s.sqrt_e_sin_w])
+                    .ok_or_else(|| ModelError::Eccentricity(s.name.clone()))?;
+                let node = s.node_difference.map_or(0.0, |i| full[i].to_radians());
+                let inclination = s
+                    .inclination
+                    .map(|i| full[i].to_radians())
+                    .or(shared_inc)
+                    .unwrap_or(edge_on);
+                // λ = M + ω_p + Ω with ω_p = ω⋆ + π.
+                let omega_p = w + std::f64::consts::PI;
+                let mean_anomaly = (full[s.mean_longitude].to_radians() - omega_p - node)
+                    .rem_euclid(std::f64::consts::TAU);
+                Ok(DecodedPlanet {
+                    name: s.name.clone(),
+                    period: full[s.period],
+                    semi_amplitude: full[s.semi_amplitude],
+                    eccentricity: e,
+                    omega_star: w,
+                    mean_anomaly,
+                    inclination,
+                    node,
+                })
+            })
+            .collect()
+    }
+
+    /// The trend as the Keplerian model takes it.
+    fn trend_of(&self, full: &[f64]) -> Trend {
+        match self.trend {
+            TrendKind::None => Trend::None,
+            TrendKind::Linear => Trend::Linear {
+                slope: self.slope.map_or(0.0, |i| full[i]),
+            },
+            TrendKind::Quadratic => Trend::Quadratic {
+                slope: self.slope.map_or(0.0, |i| full[i]),
+                curvature: self.curvature.map_or(0.0, |i| full[i]),
+            },
+        }
+    }
+
+    /// Offsets per instrument (m/s).
+    pub fn offsets_of(&self, full: &[f64]) -> Vec<f64> {
+        self.offsets.iter().map(|&i| full[i]).collect()
+    }
+
+    /// Jitters per instrument (m/s).
+    pub fn jitters_of(&self, full: &[f64]) -> Vec<f64> {
+        self.jitters.iter().map(|&i| full[i]).collect()
+    }
+
+    /// The model RV (m/s) at the observed epochs for a full parameter
+    /// vector, written into `out`.
+    pub fn model_rv(&self, full: &[f64], out: &mut [f64]) -> Result<(), ModelError> {
+        self.model_rv_at(full, &self.obs.t, &self.obs.inst, out)
+    }
+
+    /// The model RV (m/s) at arbitrary epochs with instrument indices.
+    pub fn model_rv_at(
+        &self,
+        full: &[f64],
+        t: &[f64],
+        inst: &[usize],
+        out: &mut [f64],
+    ) -> Result<(), ModelError> {
+        let planets = self.decode_planets(full)?;
+        match self.kind {
+            ModelKind::Keplerian => {
+                let params = KeplerianParams {
+                    t_ref: self.t_ref,
+                    planets: planets
+                        .iter()
+                        .map(|p| PlanetSignal {
+                            period: p.period,
+                            semi_amplitude: p.semi_amplitude,
+                            eccentricity: p.eccentricity,
+                            omega_star: p.omega_star,
+                            mean_anomaly_ref: p.mean_anomaly,
+                        })
+                        .collect(),
+                    offsets: self.offsets_of(full),
+                    trend: self.trend_of(full),
+                };
+                keplerian_model_rv(&params, t, inst, out)
+                    .map_err(|e| ModelError::Evaluation(e.to_string()))
+            }
+            _ => Err(ModelError::Evaluation(
+                "dynamical models are not available in this build".into(),
+            )),
+        }
+    }
+
+    /// Residuals data − model (m/s) into `out`.
+    pub fn residuals(&self, full: &[f64], out: &mut [f64]) -> Result<(), ModelError> {
+        self.model_rv(full, out)?;
+        for (o, &v) in out.iter_mut().zip(&self.obs.rv) {
+            *o = v - *o;
+        }
+        Ok(())
+    }
+
+    /// ln L of a full parameter vector (−∞ when the model cannot be
+    /// evaluated).
+    pub fn ln_likelihood(&self, full: &[f64]) -> f64 {
+        let mut r = vec![0.0; self.obs.len()];
+        if self.residuals(full, &mut r).is_err() {
+            return f64::NEG_INFINITY;
+        }
+        let jit = self.jitters_of(full);
+        if jit.iter().any(|&j| !(j >= 0.0)) {
+            return f64::NEG_INFINITY;
+        }
+        ln_likelihood(&r, &self.obs.err, &self.obs.inst, &jit)
+    }
+
+    /// χ² of a full parameter vector with its jitters.
+    pub fn chi_square(&self, full: &[f64]) -> f64 {
+        let mut r = vec![0.0; self.obs.len()];
+        if self.residuals(full, &mut r).is_err() {
+            return f64::INFINITY;
+        }
+        chi_square(&r, &self.obs.err, &self.obs.inst, &self.jitters_of(full))
+    }
+
+    /// ln posterior (up to a constant) at an unconstrained free vector `u`:
+    /// ln L + ln prior + ln |dx/du|. −∞ outside the support.
+    pub fn ln_posterior_unconstrained(&self, u: &[f64]) -> f64 {
+        let mut full = self.params.start_full();
+        let Ok(ln_jac) = self.params.fill_full(u, &mut full) else {
+            return f64::NEG_INFINITY;
+        };
+        let lp = self.params.ln_prior(&full);
+        if !lp.is_finite() {
+            return f64::NEG_INFINITY;
+        }
+        let ll = self.ln_likelihood(&full);
+        if !ll.is_finite() {
+            return f64::NEG_INFINITY;
+        }
+        ll + lp + ln_jac
+    }
+}
