@@ -341,7 +341,8 @@ impl ParameterSet {
             }
             let (lo, hi) = p.prior.support();
             let periodic = matches!(p.prior, Prior::Periodic { .. });
-            if !periodic && !(p.value >= lo && p.value <= hi) {
+            let inside = p.value >= lo && p.value <= hi;
+            if !periodic && !inside {
                 return Err(ParamError::OutsideRange {
                     name: p.name.clone(),
                     value: p.value,
