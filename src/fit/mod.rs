@@ -3,4 +3,5 @@
 
 pub mod likelihood;
 pub mod models;
+pub mod optimise;
 pub mod params;
