@@ -26,8 +26,11 @@ use std::f64::consts::PI;
 /// This is the same computation as the `baluev` method of the astropy
 /// library's Lomb–Scargle false-alarm probability for its `standard`
 /// normalisation with a floating mean (checked against it to ≤ 10⁻⁸ in
-/// `tests/periodogram_astropy.rs`). Only f_max enters, not f_min. The
-/// approximation is an upper bound, good for small FAP (≲ 0.1).
+/// `tests/periodogram_astropy.rs`). Only f_max enters, not f_min. Note that
+/// astropy does not use its `maximum_frequency` argument as given: it first
+/// snaps it onto its own frequency grid (5 samples per 1/T from
+/// `minimum_frequency`), so its numbers equal ours for that snapped f_max.
+/// The approximation is an upper bound, good for small FAP (≲ 0.1).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BaluevFap {
     count: usize,
