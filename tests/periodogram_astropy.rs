@@ -103,6 +103,16 @@ fn baluev_fap_and_levels_match_astropy() {
     println!("Baluev FAP: max relative difference to astropy = {worst:e}");
     assert!(worst <= 1e-8);
 
+    let mut worst_davies = 0.0f64;
+    for (z, expected) in floats(&fx["fap_powers"])
+        .iter()
+        .zip(floats(&fx["fap_davies"]))
+    {
+        worst_davies = worst_davies.max(rel(fap.davies_bound(*z).unwrap(), expected));
+    }
+    println!("Davies bound: max relative difference to astropy = {worst_davies:e}");
+    assert!(worst_davies <= 1e-8);
+
     // astropy's level comes from scipy's Levenberg–Marquardt root with its
     // default tolerance (xtol ≈ 1.5e-8 relative), so the levels are compared
     // at that tolerance, and each of ours must reproduce its target FAP.

@@ -19,7 +19,7 @@ use std::f64::consts::PI;
 ///   of the epochs (an effective baseline √(4π D_t));
 /// * τ(z) = γ(N_H) · W · (1 − z)^{(N_K − 1)/2} · √(N_H z / 2), with
 ///   γ(n) = √(2/n) · Γ(n/2) / Γ((n − 1)/2) (the "Davies bound" term, Baluev
-///   2008 eq. 5);
+///   2008 eq. 5, equation numbers as cited by astropy's implementation);
 /// * alias-free approximation (Baluev 2008 eq. 6):
 ///   FAP(z) = 1 − (1 − FAP₁(z)) e^{−τ(z)}.
 ///
@@ -119,6 +119,14 @@ impl BaluevFap {
     pub fn tau(&self, power: f64) -> Result<f64, PeriodogramError> {
         check_power(power)?;
         Ok(self.tau_unchecked(power))
+    }
+
+    /// Davies upper bound FAP₁(z) + τ(z) (Baluev 2008 eq. 5): the first
+    /// term of the upcrossing expansion, not clipped, so it can exceed 1 for
+    /// weak peaks.
+    pub fn davies_bound(&self, power: f64) -> Result<f64, PeriodogramError> {
+        check_power(power)?;
+        Ok(self.single_unchecked(power) + self.tau_unchecked(power))
     }
 
     /// False-alarm probability of a highest peak of power `power` ∈ [0, 1]

@@ -13,15 +13,16 @@ const RANK_CUTOFF: f64 = 1e-10;
 
 /// An RV series prepared once for many GLS evaluations: validated, epochs
 /// shifted to the middle of the baseline, weights w_i = σ_i⁻² normalised to
-/// Σ w_i = 1 (ZK09 eq. 8) and velocities centred on their weighted mean.
+/// Σ w_i = 1 (as in ZK09 §2) and velocities centred on their weighted mean.
 ///
-/// The power at frequency f (1/d), ω = 2π f, is ZK09 eqs. (4)–(6):
+/// The power at frequency f (1/d), ω = 2π f, is that of ZK09 §2 (their eqs. 4–20; individual equation
+/// numbers are not quoted here because they are from memory):
 ///
 /// p(ω) = [SS·YC² + CC·YS² − 2 CS·YC·YS] / (YY · D),  D = CC·SS − CS²,
 ///
 /// with the weighted, mean-removed sums YY = Σ w (y − ȳ)²,
 /// YC = Σ w y cos ωt − Y·C, CC = Σ w cos² ωt − C², CS = Σ w cos ωt sin ωt − C·S,
-/// etc. (ZK09 eqs. 9–13). This equals (χ²₀ − χ²(ω)) / χ²₀ with χ²₀ about
+/// etc. (the sums of ZK09 §2). This equals (χ²₀ − χ²(ω)) / χ²₀ with χ²₀ about
 /// the weighted mean and χ²(ω) of the best offset + sinusoid at ω, so
 /// 0 ≤ p ≤ 1. Where the cosine and sine columns are linearly dependent on the
 /// epochs (D ≈ 0, e.g. at an exact alias of regular sampling) the power is
@@ -37,7 +38,7 @@ pub struct GlsSeries {
     yy: f64,
 }
 
-/// Weighted sums of ZK09 eqs. (9)–(13) before mean removal (Y = 0 already).
+/// Weighted sums of ZK09 §2 before mean removal (Y = 0 already).
 #[derive(Debug, Clone, Copy, Default)]
 struct Sums {
     c: f64,
@@ -63,7 +64,7 @@ impl Sums {
         self.cs += wc * s;
     }
 
-    /// The mean-removed sums (ZK09 eqs. 10–13, with Y = 0):
+    /// The mean-removed sums of ZK09 §2 (with Y = 0):
     /// (YC, YS, CC, SS, CS).
     #[inline]
     fn centred(&self) -> (f64, f64, f64, f64, f64) {
@@ -298,7 +299,7 @@ impl Spectrum {
 }
 
 /// GLS power p ∈ [0, 1] of epochs `t` (d), velocities `y` (m/s) and errors
-/// `sigma` (m/s) at each frequency of `grid` (ZK09 eqs. 4–13, by
+/// `sigma` (m/s) at each frequency of `grid` (ZK09 §2, by
 /// trigonometric recurrence; see [`GlsSeries`]).
 ///
 /// ```

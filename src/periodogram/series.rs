@@ -86,7 +86,7 @@ pub(crate) fn reference_epoch(t: &[f64]) -> f64 {
 }
 
 /// Inverse-variance weights w_i = σ_i⁻² / Σ_j σ_j⁻², summing to one
-/// (Zechmeister & Kürster 2009, eq. 8 — their normalised weights).
+/// (the normalised weights of Zechmeister & Kürster 2009, §2).
 pub(crate) fn normalised_weights(sigma: &[f64]) -> Vec<f64> {
     let raw: Vec<f64> = sigma.iter().map(|s| 1.0 / (s * s)).collect();
     let total: f64 = raw.iter().sum();

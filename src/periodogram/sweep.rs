@@ -8,8 +8,8 @@
 //! sin ω_{k+1} t = sin ω_k t · cos Δω t + cos ω_k t · sin Δω t
 //!
 //! turn one sin/cos pair per epoch and frequency into four multiplications
-//! (Press et al. 1992, Numerical Recipes §5.5, the standard recurrence used
-//! for fast periodograms). Rounding errors of the rotation grow roughly
+//! (Press et al. 1992, Numerical Recipes, 2nd ed., §5.5 — section number from
+//! memory; the standard recurrence used for fast periodograms). Rounding errors of the rotation grow roughly
 //! linearly with the number of steps, so the grid is cut into blocks of
 //! [`RESET_BLOCK`] frequencies and each block starts from exactly evaluated
 //! sin/cos: the error stays within a few hundred ulps. Blocks are independent,

@@ -5,8 +5,8 @@ use super::sweep::sweep;
 use super::{FrequencyGrid, PeriodogramError};
 
 /// Spectral window W(f) = |Σ_i w_i e^{−2πi f t_i}|² / (Σ_i w_i)² of epochs
-/// `t` (d) on `grid` (Deeming 1975, Ap&SS 36, 137, the window of uneven
-/// sampling; normalised so that W(0) = 1 and 0 ≤ W ≤ 1).
+/// `t` (d) on `grid` (Deeming 1975, Ap&SS 36, 137 — reference from memory —
+/// the window of uneven sampling; normalised so that W(0) = 1 and 0 ≤ W ≤ 1).
 ///
 /// With `sigma` = `Some(errors)` (m/s) the weights are w_i = σ_i⁻², the
 /// weighting the GLS gives the data; with `None` all w_i = 1 (the classical
