@@ -42,8 +42,9 @@ impl Default for GridSettings {
 }
 
 /// An equally spaced frequency grid f_k = `start` + k · `step`,
-/// k = 0 … `len` − 1, in cycles per day (1/d).
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+/// k = 0 … `len` − 1, in cycles per day (1/d). Built only through the
+/// validating constructors, so step > 0 and len ≥ 1 always hold.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct FrequencyGrid {
     start: f64,
     step: f64,
