@@ -284,3 +284,24 @@ fn baluev_fap_bounds_the_noise_only_rate() {
     println!("noise-only rate above the 10 % Baluev level: {rate}");
     assert!((0.05..=0.14).contains(&rate), "rate {rate}");
 }
+
+#[test]
+fn fap_levels_invert_the_fap_across_its_range() {
+    // Narrow and wide searches, FAP targets from near 1 down to 1e-12: each
+    // level must give back its FAP, and levels fall as the FAP rises.
+    let (t, _, s) = series(3, 30);
+    for f_max in [1e-4, 0.01, 2.0] {
+        let fap = BaluevFap::new(&t, &s, f_max).unwrap();
+        let mut previous = 1.0;
+        for target in [1e-12, 1e-6, 1e-3, 0.1, 0.5, 0.9, 0.999] {
+            let z = fap.power_level(target).unwrap();
+            let back = fap.probability(z).unwrap();
+            assert!(
+                (back - target).abs() <= 1e-9 * target,
+                "f_max {f_max}, target {target}: z {z}, FAP {back}"
+            );
+            assert!(z < previous);
+            previous = z;
+        }
+    }
+}
