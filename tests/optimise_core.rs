@@ -250,3 +250,41 @@ fn nelder_mead_reports_non_finite_start() {
     let r = minimise_scalar(&j, &[0.0, f64::NAN], &ScalarSettings::default()).unwrap();
     assert_eq!(r.status, ScalarStatus::NonFiniteStart);
 }
+
+/// A model that can only be evaluated at its starting point: every trial
+/// fails, so the run must end as stalled, not converged.
+struct Stuck;
+
+impl ResidualProblem for Stuck {
+    fn n_params(&self) -> usize {
+        1
+    }
+    fn n_residuals(&self) -> usize {
+        1
+    }
+    fn residuals(&self, t: &[f64], out: &mut [f64]) -> Result<(), EvaluationError> {
+        if t[0] != 3.0 {
+            return Err(EvaluationError::Model("outside the valid region".into()));
+        }
+        out[0] = t[0] - 1.0;
+        Ok(())
+    }
+    fn has_jacobian(&self) -> bool {
+        true
+    }
+    fn jacobian(&self, _t: &[f64], j: &mut DMatrix<f64>) -> Result<(), EvaluationError> {
+        j[(0, 0)] = 1.0;
+        Ok(())
+    }
+}
+
+#[test]
+fn stalled_run_is_reported() {
+    let settings = LmSettings::default();
+    let r = least_squares(&Stuck, &[3.0], &settings).unwrap();
+    println!("{r:?}");
+    assert!(matches!(r.status, Status::Stalled { .. }), "{:?}", r.status);
+    assert!((r.gradient_cosine - 1.0).abs() < 1e-15);
+    assert_eq!(r.theta, vec![3.0]);
+    assert_eq!(r.cost, 4.0);
+}

@@ -18,9 +18,13 @@
 //! λ ← λ·max(1/3, 1 − (2ρ − 1)³), ν ← 2; otherwise λ ← λ·ν, ν ← 2ν. The
 //! predicted χ² reduction of the linear model is δᵀ(λDδ − Jᵀr).
 //!
-//! Stopping tests (those of MINPACK `lmder`, Moré, Garbow & Hillstrom 1980):
-//! relative actual and predicted χ² reductions both ≤ `cost_tolerance`;
-//! ‖δ‖ ≤ `step_tolerance`·(‖θ‖ + `step_tolerance`) on an accepted step;
+//! Stopping tests (those of MINPACK `lmder`, Moré, Garbow & Hillstrom 1980,
+//! with one safeguard): relative actual and predicted χ² reductions of the
+//! step both ≤ `cost_tolerance` — on a rejected step only if, in addition,
+//! the reduction predicted by the undamped Gauss–Newton step at θ,
+//! gᵀ(JᵀJ)⁺g, is ≤ `rounding_tolerance`·χ² (otherwise a large λ alone could
+//! fake convergence); ‖δ‖ ≤ `step_tolerance`·(‖θ‖ + `step_tolerance`) on an
+//! accepted step;
 //! maxⱼ |Jⱼᵀr| / (‖Jⱼ‖‖r‖) ≤ `gradient_tolerance` (cosine of the angle
 //! between r and each column of J); or χ² = 0. A point meeting a test whose
 //! Jacobian (columns scaled by |θⱼ|) is numerically rank-deficient is
@@ -56,6 +60,11 @@ pub struct LmSettings {
     /// Initial damping λ₀, relative to the Marquardt scaling D (Madsen et
     /// al. 2004 suggest τ = 10⁻³ for a good start, larger for a poor one).
     pub initial_damping: f64,
+    /// On a rejected step, the point counts as converged (χ² test) when the
+    /// undamped Gauss–Newton gain gᵀ(JᵀJ)⁺g is ≤ this fraction of χ²: χ²
+    /// can then no longer be lowered through its own rounding noise, which
+    /// for unweighted data with large |y|/|r| reaches ~10⁻¹³ relative.
+    pub rounding_tolerance: f64,
     /// Consecutive rejected steps after which the run is reported stalled.
     pub max_rejections: u32,
     /// Relative singular-value threshold for the numerical rank of the
@@ -76,6 +85,7 @@ impl Default for LmSettings {
             step_tolerance: 1e-12,
             gradient_tolerance: 1e-12,
             initial_damping: 1e-3,
+            rounding_tolerance: 1e-12,
             max_rejections: 60,
             rank_tolerance: 1e-10,
             monotone_scaling: true,
@@ -115,8 +125,8 @@ pub enum Status {
     },
     /// The iteration limit was reached first.
     MaxIterations,
-    /// Too many consecutive rejected steps (or λ overflowed) without
-    /// meeting any test.
+    /// Too many consecutive rejected steps, λ overflowed, or the damped
+    /// step became too small to change θ, without meeting any test.
     Stalled {
         /// Consecutive rejections at the end.
         rejections: u32,
@@ -167,6 +177,9 @@ pub struct LmReport {
     pub damping: f64,
     /// maxⱼ |Jⱼᵀr| / (‖Jⱼ‖‖r‖) at `theta` (0 if r = 0).
     pub gradient_cosine: f64,
+    /// χ² reduction the undamped Gauss–Newton step would still predict at
+    /// `theta`, gᵀ(JᵀJ)⁺g with g = Jᵀr (∞ if it could not be computed).
+    pub predicted_gain: f64,
     /// Jacobian J (m × n) at `theta`, for covariance estimates.
     pub jacobian: DMatrix<f64>,
 }
@@ -182,6 +195,9 @@ struct Work {
     jtj: DMatrix<f64>,
     grad: DVector<f64>,
     scale: DVector<f64>,
+    /// χ² reduction predicted by the undamped Gauss–Newton step at θ,
+    /// gᵀ(JᵀJ)⁺g: what the local linear model could still gain at all.
+    gn_reduction: f64,
     cost: f64,
     lambda: f64,
     nu: f64,
@@ -213,6 +229,8 @@ impl Work {
             let d = self.jtj[(j, j)];
             self.scale[j] = if monotone { self.scale[j].max(d) } else { d };
         }
+        self.gn_reduction = damped_step(&self.jtj, &self.scale, 0.0, &self.grad)
+            .map_or(f64::INFINITY, |d| -d.dot(&self.grad));
         Ok(Ok(()))
     }
 
@@ -271,8 +289,36 @@ fn damped_step(
 }
 
 /// The Levenberg–Marquardt solver (see the module documentation for the
-/// method and its references). Drive it with argmin's [`Executor`] or,
-/// more simply, with [`least_squares`].
+/// method and its references). Drive it with argmin's [`Executor`] (so that
+/// argmin observers can be attached from outside) or, more simply, with
+/// [`least_squares`], which also builds an [`LmReport`].
+///
+/// # Example
+///
+/// ```
+/// use apsidal::fit::optimise::{EvaluationError, LevenbergMarquardt, LmSettings, ResidualProblem};
+/// use argmin::core::{Executor, State};
+/// use nalgebra::DVector;
+///
+/// /// Rosenbrock as residuals: r = (10(θ₁ − θ₀²), 1 − θ₀), minimum (1, 1).
+/// struct Rosen;
+/// impl ResidualProblem for Rosen {
+///     fn n_params(&self) -> usize { 2 }
+///     fn n_residuals(&self) -> usize { 2 }
+///     fn residuals(&self, t: &[f64], out: &mut [f64]) -> Result<(), EvaluationError> {
+///         out[0] = 10.0 * (t[1] - t[0] * t[0]);
+///         out[1] = 1.0 - t[0];
+///         Ok(())
+///     }
+/// }
+/// let solver = LevenbergMarquardt::new(LmSettings::default());
+/// let result = Executor::new(&Rosen, solver)
+///     .configure(|s| s.param(DVector::from_vec(vec![-1.2, 1.0])).max_iters(100))
+///     .run()
+///     .unwrap();
+/// let best = result.state.get_best_param().unwrap();
+/// assert!((best[0] - 1.0).abs() < 1e-8 && (best[1] - 1.0).abs() < 1e-8);
+/// ```
 pub struct LevenbergMarquardt {
     settings: LmSettings,
     work: Option<Work>,
@@ -325,6 +371,7 @@ impl LevenbergMarquardt {
             jacobian_evaluations: w.jacobian_evaluations,
             damping: w.lambda,
             gradient_cosine,
+            predicted_gain: w.gn_reduction,
             jacobian: w.jac,
         })
     }
@@ -363,6 +410,7 @@ impl<O: ResidualProblem> Solver<O, LmState> for LevenbergMarquardt {
             jtj: DMatrix::zeros(n, n),
             grad: DVector::zeros(n),
             scale: DVector::zeros(n),
+            gn_reduction: f64::INFINITY,
             cost: f64::INFINITY,
             lambda: self.settings.initial_damping,
             nu: 2.0,
@@ -396,9 +444,12 @@ impl<O: ResidualProblem> Solver<O, LmState> for LevenbergMarquardt {
         let (param, cost) = (w.theta.clone(), w.cost);
         let zero = cost == 0.0;
         let flat = self.stop.is_none() && w.gradient_cosine() <= self.settings.gradient_tolerance;
+        let spent = self.stop.is_none() && w.gn_reduction <= self.settings.cost_tolerance * w.cost;
         self.work = Some(w);
         if self.stop.is_none() && zero {
             self.converge(Convergence::ZeroCost);
+        } else if spent {
+            self.converge(Convergence::CostReduction);
         } else if flat {
             self.converge(Convergence::Gradient);
         }
@@ -476,19 +527,28 @@ impl<O: ResidualProblem> Solver<O, LmState> for LevenbergMarquardt {
             }
             other => {
                 // Rejected (or unusable) step: θ stays; raise the damping.
+                // MINPACK also applies the χ² test to rejected steps; alone
+                // that can claim convergence far from a minimum, because
+                // with large λ the step and its predicted reduction shrink
+                // whatever the gradient. Here it also needs the undamped
+                // Gauss–Newton prediction at θ to be below tolerance.
                 if let Some((_, actual, predicted, rho, _)) = other {
                     if (actual / w.cost).abs() <= settings.cost_tolerance
                         && predicted / w.cost <= settings.cost_tolerance
                         && rho <= 2.0
+                        && w.gn_reduction <= settings.rounding_tolerance * w.cost
                     {
                         converged = Some(Convergence::CostReduction);
                     }
                 }
+                // Once the damped step no longer changes θ at all, nothing
+                // more can happen: stalled.
+                let vanished = step.is_some() && w.trial == w.theta;
                 w.lambda *= w.nu;
                 w.nu *= 2.0;
                 w.rejections += 1;
                 if converged.is_none()
-                    && (w.rejections > settings.max_rejections || !w.lambda.is_finite())
+                    && (vanished || w.rejections > settings.max_rejections || !w.lambda.is_finite())
                 {
                     self.stop = Some(Status::Stalled {
                         rejections: w.rejections,
