@@ -445,3 +445,51 @@ proptest! {
         let _ = apsidal::data::parse_table(text.as_bytes(), "pieces", &InstrumentLabel::Given("X".into()));
     }
 }
+
+#[test]
+fn typo_in_first_epoch_is_not_taken_for_a_header() {
+    // Mixed text and numbers: a data line, so the typo is reported.
+    let e = apsidal::data::parse_table(
+        b"# c\n2459OOO.5 1.0 1.0\n2459001.5 1.0 1.0\n",
+        "typo.txt",
+        &given("VESKA"),
+    )
+    .unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "typo.txt:2: column 1 (time): '2459OOO.5' is not a number"
+    );
+}
+
+#[test]
+fn second_text_line_is_not_a_header() {
+    let e = apsidal::data::parse_table(
+        b"time rv err\n2459000.5 1.0 1.0\ntime rv err\n",
+        "twice.txt",
+        &given("VESKA"),
+    )
+    .unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "twice.txt:3: column 1 (time): 'time' is not a number"
+    );
+}
+
+#[test]
+fn long_text_is_shortened_in_messages() {
+    let long = "x".repeat(500);
+    let text = format!("2459000.5 {long} 1.0\n");
+    let e = apsidal::data::parse_table(text.as_bytes(), "long.txt", &given("VESKA")).unwrap_err();
+    assert!(e.to_string().len() < 120, "{e}");
+    assert!(e.to_string().contains('…'));
+}
+
+#[test]
+fn carriage_return_inside_a_line_is_refused() {
+    let e =
+        apsidal::data::parse_table(b"2459000.5 1.0\r1.0\n", "cr.txt", &given("VESKA")).unwrap_err();
+    assert!(
+        matches!(e, TableError::ControlCharacter { code: 13, .. }),
+        "{e:?}"
+    );
+}
