@@ -376,3 +376,186 @@ impl RvModel {
         ll + lp + ln_jac
     }
 }
+
+/// A starting guess for one planet, used to lay out a parameter set with
+/// default priors.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PlanetGuess {
+    /// Planet name (used in parameter names).
+    pub name: String,
+    /// Period in days.
+    pub period: f64,
+    /// Semi-amplitude in m/s.
+    pub semi_amplitude: f64,
+    /// Eccentricity.
+    pub eccentricity: f64,
+    /// ω⋆ in degrees.
+    pub omega_star_deg: f64,
+    /// Mean longitude λ = M + ω_p + Ω at the reference epoch, degrees.
+    pub mean_longitude_deg: f64,
+    /// Inclination in degrees (90 = edge-on).
+    pub inclination_deg: f64,
+    /// Node difference ΔΩ in degrees (ignored for the innermost planet).
+    pub node_difference_deg: f64,
+}
+
+/// The parameters of `kind` with default priors around the guesses:
+/// period log-uniform on [P/2, 2P]; K uniform on [0, max(10 K, 100)] m/s;
+/// √e cos ω⋆, √e sin ω⋆ uniform on [−1, 1] (e < 1 enforced by the model);
+/// mean longitude periodic on [0°, 360°); inclination uniform on
+/// [1°, 179°]; shared sin i uniform on [0.05, 1]; ΔΩ periodic on
+/// [−180°, 180°); offsets uniform on ±(|mean RV| + 100 × RMS + 1000) m/s;
+/// jitters uniform on [0, 10 × RMS + 10] m/s, starting at the median error
+/// / 2; trend terms unbounded (Gaussian, wide). Planets must be given in
+/// order of period.
+pub fn default_parameters(
+    kind: ModelKind,
+    planets: &[PlanetGuess],
+    obs: &Observations,
+    trend: TrendKind,
+) -> Result<ParameterSet, ParamError> {
+    use super::params::{Parameter, Prior};
+    let free = |name: String, value: f64, prior: Prior| Parameter {
+        name,
+        value,
+        prior,
+        fixed: false,
+    };
+    let n = obs.len().max(1) as f64;
+    let mean = obs.rv.iter().sum::<f64>() / n;
+    let rms = (obs.rv.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / n).sqrt();
+    let mut errs = obs.err.clone();
+    errs.sort_by(f64::total_cmp);
+    let med_err = errs.get(errs.len() / 2).copied().unwrap_or(1.0);
+    let mut out = Vec::new();
+    for (k, p) in planets.iter().enumerate() {
+        let nm = &p.name;
+        let (sc, ss) =
+            super::params::sqrt_basis_from_ecc_omega(p.eccentricity, p.omega_star_deg.to_radians());
+        out.push(free(
+            format!("{nm}.period"),
+            p.period,
+            Prior::LogUniform {
+                lower: 0.5 * p.period,
+                upper: 2.0 * p.period,
+            },
+        ));
+        out.push(free(
+            format!("{nm}.semi_amplitude"),
+            p.semi_amplitude,
+            Prior::Uniform {
+                lower: 0.0,
+                upper: (10.0 * p.semi_amplitude).max(100.0),
+            },
+        ));
+        out.push(free(
+            format!("{nm}.sqrt_e_cos_w"),
+            sc,
+            Prior::Uniform {
+                lower: -1.0,
+                upper: 1.0,
+            },
+        ));
+        out.push(free(
+            format!("{nm}.sqrt_e_sin_w"),
+            ss,
+            Prior::Uniform {
+                lower: -1.0,
+                upper: 1.0,
+            },
+        ));
+        out.push(free(
+            format!("{nm}.mean_longitude"),
+            p.mean_longitude_deg.rem_euclid(360.0),
+            Prior::Periodic {
+                lower: 0.0,
+                upper: 360.0,
+            },
+        ));
+        if kind == ModelKind::ThreeDimensional {
+            out.push(free(
+                format!("{nm}.inclination"),
+                p.inclination_deg.clamp(1.0, 179.0),
+                Prior::Uniform {
+                    lower: 1.0,
+                    upper: 179.0,
+                },
+            ));
+            if k > 0 {
+                out.push(free(
+                    format!("{nm}.node_difference"),
+                    (p.node_difference_deg + 180.0).rem_euclid(360.0) - 180.0,
+                    Prior::Periodic {
+                        lower: -180.0,
+                        upper: 180.0,
+                    },
+                ));
+            }
+        }
+    }
+    if kind == ModelKind::CoplanarSinI {
+        let s = planets
+            .first()
+            .map_or(1.0, |p| p.inclination_deg.to_radians().sin().abs());
+        out.push(free(
+            "sin_i".into(),
+            s.clamp(0.05, 1.0),
+            Prior::Uniform {
+                lower: 0.05,
+                upper: 1.0,
+            },
+        ));
+    }
+    let off = mean.abs() + 100.0 * rms + 1000.0;
+    for (i, name) in obs.instruments.iter().enumerate() {
+        let pts: Vec<f64> = obs
+            .rv
+            .iter()
+            .zip(&obs.inst)
+            .filter(|(_, k)| **k == i)
+            .map(|(v, _)| *v)
+            .collect();
+        let m = if pts.is_empty() {
+            0.0
+        } else {
+            pts.iter().sum::<f64>() / pts.len() as f64
+        };
+        out.push(free(
+            format!("{name}.offset"),
+            m,
+            Prior::Uniform {
+                lower: -off,
+                upper: off,
+            },
+        ));
+        out.push(free(
+            format!("{name}.jitter"),
+            0.5 * med_err,
+            Prior::Uniform {
+                lower: 0.0,
+                upper: 10.0 * rms + 10.0,
+            },
+        ));
+    }
+    let wide = |name: &str, sigma: f64| {
+        free(
+            name.into(),
+            0.0,
+            Prior::Gaussian {
+                mean: 0.0,
+                sigma,
+                lower: None,
+                upper: None,
+            },
+        )
+    };
+    match trend {
+        TrendKind::None => {}
+        TrendKind::Linear => out.push(wide("trend.slope", 1e3)),
+        TrendKind::Quadratic => {
+            out.push(wide("trend.slope", 1e3));
+            out.push(wide("trend.curvature", 1e3));
+        }
+    }
+    ParameterSet::new(out)
+}

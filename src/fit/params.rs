@@ -470,6 +470,17 @@ impl ParameterSet {
             .sum()
     }
 
+    /// Parameter `index` (into the full vector) from its unconstrained
+    /// value `u`, with ln |dx/du|.
+    pub fn forward_one(&self, index: usize, u: f64) -> (f64, f64) {
+        self.transforms[index].forward(u)
+    }
+
+    /// The unconstrained value of parameter `index` at `x`.
+    pub fn inverse_one(&self, index: usize, x: f64) -> f64 {
+        self.transforms[index].inverse(x)
+    }
+
     /// A copy of the set with new starting values (e.g. an optimum), the
     /// values clamped into their supports.
     pub fn with_values(&self, full: &[f64]) -> Result<Self, ParamError> {

@@ -1,0 +1,412 @@
+//! Maximum-likelihood fit of an [`RvModel`]: Levenberg–Marquardt on the
+//! whitened residuals with the jitters held, alternated with a
+//! one-dimensional maximisation of ln L over each free jitter, from several
+//! starts in parallel, with a covariance estimate at the optimum.
+//!
+//! With jitter the likelihood is not a sum of squares (the ln(σ² + s²)
+//! term), so the jitters cannot ride along inside the least-squares
+//! solver. Holding them and then maximising over each one by Brent's
+//! method (Brent 1973; argmin's `BrentOpt`) is a block-coordinate ascent
+//! of ln L; it stops when a round raises ln L by less than a tolerance.
+//! Gaussian priors on least-squares parameters enter as extra residual
+//! rows (x − μ)/σ, so the result is then the MAP point for those priors;
+//! uniform and log-uniform priors act through their bounds only.
+
+use argmin::core::{CostFunction, Executor, State};
+use argmin::solver::brent::BrentOpt;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use super::likelihood::{aicc, bic};
+use super::models::{ModelError, RvModel};
+use super::optimise::{
+    CovarianceScaling, EvaluationError, JacobianSource, LmSettings, ResidualProblem, covariance_at,
+    least_squares,
+};
+use super::params::Prior;
+
+/// Settings of the maximum-likelihood fit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FitSettings {
+    /// Levenberg–Marquardt settings for the least-squares blocks.
+    pub lm: LmSettings,
+    /// Largest number of least-squares / jitter rounds.
+    pub max_rounds: usize,
+    /// Stop when a round raises ln L by less than this.
+    pub ln_l_tolerance: f64,
+}
+
+impl Default for FitSettings {
+    fn default() -> Self {
+        FitSettings {
+            lm: LmSettings {
+                max_iterations: 300,
+                ..LmSettings::default()
+            },
+            max_rounds: 12,
+            ln_l_tolerance: 1e-7,
+        }
+    }
+}
+
+/// Why a fit could not be made.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum FitError {
+    /// No start gave a finite likelihood.
+    #[error("no starting point gave a finite likelihood ({0})")]
+    NoValidStart(String),
+    /// A start has the wrong length.
+    #[error("a starting vector has {got} values, the model has {expected}")]
+    StartLength {
+        /// Expected.
+        expected: usize,
+        /// Given.
+        got: usize,
+    },
+    /// The model failed.
+    #[error(transparent)]
+    Model(#[from] ModelError),
+}
+
+/// Outcome of a maximum-likelihood fit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FitResult {
+    /// Names of all parameters, in full-vector order.
+    pub names: Vec<String>,
+    /// Best full parameter vector.
+    pub values: Vec<f64>,
+    /// 1σ standard errors from the covariance at the optimum (delta method
+    /// through the transforms), `None` for fixed parameters, jitters and
+    /// when the covariance is singular.
+    pub std_errors: Vec<Option<f64>>,
+    /// ln L at the optimum.
+    pub ln_likelihood: f64,
+    /// χ² with the fitted jitters.
+    pub chi_square: f64,
+    /// Number of free parameters k.
+    pub n_free: usize,
+    /// Number of data points n.
+    pub n_points: usize,
+    /// BIC = k ln n − 2 ln L.
+    pub bic: f64,
+    /// AICc.
+    pub aicc: f64,
+    /// Whether the last least-squares block reported convergence and the
+    /// rounds settled below the tolerance.
+    pub converged: bool,
+    /// How the last least-squares block ended (for people).
+    pub status: String,
+    /// Rounds used.
+    pub rounds: usize,
+    /// Which start gave the optimum (index into the starts).
+    pub best_start: usize,
+}
+
+/// The least-squares block: the free, non-jitter parameters in their
+/// unconstrained form, with everything else held at `base`.
+struct Block<'a> {
+    model: &'a RvModel,
+    base: Vec<f64>,
+    idx: Vec<usize>,
+    gaussian_rows: Vec<(usize, usize, f64, f64)>,
+    jitters: Vec<f64>,
+    n_data: usize,
+}
+
+impl Block<'_> {
+    fn full_of(&self, u: &[f64]) -> Vec<f64> {
+        let mut full = self.base.clone();
+        for (k, &i) in self.idx.iter().enumerate() {
+            full[i] = self.model.params.forward_one(i, u[k]).0;
+        }
+        full
+    }
+}
+
+impl ResidualProblem for Block<'_> {
+    fn n_params(&self) -> usize {
+        self.idx.len()
+    }
+
+    fn n_residuals(&self) -> usize {
+        self.n_data + self.gaussian_rows.len()
+    }
+
+    fn residuals(&self, u: &[f64], out: &mut [f64]) -> Result<(), EvaluationError> {
+        let full = self.full_of(u);
+        let (data, prior) = out.split_at_mut(self.n_data);
+        self.model
+            .residuals(&full, data)
+            .map_err(|e| EvaluationError::Model(Box::new(e)))?;
+        let obs = &self.model.obs;
+        for ((r, &s), &k) in data.iter_mut().zip(&obs.err).zip(&obs.inst) {
+            let j = self.jitters[k];
+            *r /= (s * s + j * j).sqrt();
+        }
+        for (row, &(_, i, mean, sigma)) in prior.iter_mut().zip(&self.gaussian_rows) {
+            *row = (full[i] - mean) / sigma;
+        }
+        Ok(())
+    }
+}
+
+/// −ln L as a function of one jitter.
+struct JitterCost<'a> {
+    model: &'a RvModel,
+    full: &'a [f64],
+    index: usize,
+}
+
+impl CostFunction for JitterCost<'_> {
+    type Param = f64;
+    type Output = f64;
+    fn cost(&self, s: &f64) -> Result<f64, argmin::core::Error> {
+        let mut full = self.full.to_vec();
+        full[self.index] = *s;
+        let l = self.model.ln_likelihood(&full);
+        Ok(if l.is_finite() { -l } else { f64::MAX })
+    }
+}
+
+/// Maximise ln L over jitter `index` (full-vector index) within its prior
+/// support capped at `cap`.
+fn best_jitter(model: &RvModel, full: &[f64], index: usize, cap: f64) -> f64 {
+    let (lo, hi) = model.params.parameters()[index].prior.support();
+    let lo = lo.max(0.0);
+    let hi = hi.min(cap).max(lo + 1e-9);
+    let solver = BrentOpt::new(lo, hi).set_tolerance(1e-10, 1e-9);
+    let cost = JitterCost { model, full, index };
+    let run = Executor::new(cost, solver)
+        .configure(|s| s.max_iters(200))
+        .run();
+    let current = full[index];
+    match run {
+        Ok(res) => match res.state().get_best_param() {
+            Some(&s) if s.is_finite() => {
+                let mut trial = full.to_vec();
+                trial[index] = s;
+                if model.ln_likelihood(&trial) >= model.ln_likelihood(full) {
+                    s
+                } else {
+                    current
+                }
+            }
+            _ => current,
+        },
+        Err(_) => current,
+    }
+}
+
+struct Single {
+    full: Vec<f64>,
+    ln_l: f64,
+    converged: bool,
+    status: String,
+    rounds: usize,
+}
+
+fn fit_one(model: &RvModel, start: &[f64], settings: &FitSettings) -> Option<Single> {
+    let params = model.params.parameters();
+    let jitter_idx: Vec<usize> = model
+        .obs
+        .instruments
+        .iter()
+        .filter_map(|i| model.params.index_of(&format!("{i}.jitter")))
+        .filter(|&i| !params[i].fixed)
+        .collect();
+    let idx: Vec<usize> = model
+        .params
+        .free_indices()
+        .iter()
+        .copied()
+        .filter(|i| !jitter_idx.contains(i))
+        .collect();
+    let gaussian_rows: Vec<(usize, usize, f64, f64)> = idx
+        .iter()
+        .enumerate()
+        .filter_map(|(k, &i)| match params[i].prior {
+            Prior::Gaussian { mean, sigma, .. } => Some((k, i, mean, sigma)),
+            _ => None,
+        })
+        .collect();
+    let rms = {
+        let n = model.obs.rv.len().max(1) as f64;
+        let mean = model.obs.rv.iter().sum::<f64>() / n;
+        (model
+            .obs
+            .rv
+            .iter()
+            .map(|v| (v - mean) * (v - mean))
+            .sum::<f64>()
+            / n)
+            .sqrt()
+    };
+    let mut full = start.to_vec();
+    let mut ln_l = model.ln_likelihood(&full);
+    if !ln_l.is_finite() {
+        return None;
+    }
+    let mut converged = false;
+    let mut status = String::from("not run");
+    let mut rounds = 0;
+    for round in 0..settings.max_rounds {
+        rounds = round + 1;
+        let jitters = model.jitters_of(&full);
+        let block = Block {
+            model,
+            base: full.clone(),
+            idx: idx.clone(),
+            gaussian_rows: gaussian_rows.clone(),
+            jitters,
+            n_data: model.obs.len(),
+        };
+        let mut lsq_ok = true;
+        if !idx.is_empty() {
+            let u0: Vec<f64> = idx
+                .iter()
+                .map(|&i| model.params.inverse_one(i, full[i]))
+                .collect();
+            match least_squares(&block, &u0, &settings.lm) {
+                Ok(rep) => {
+                    let cand = block.full_of(&rep.theta);
+                    let l = model.ln_likelihood(&cand);
+                    if l.is_finite() && l >= ln_l - 1e-12 {
+                        full = cand;
+                    }
+                    lsq_ok = rep.status.is_converged();
+                    status = format!("{:?}", rep.status);
+                }
+                Err(e) => {
+                    lsq_ok = false;
+                    status = e.to_string();
+                }
+            }
+        }
+        for &j in &jitter_idx {
+            full[j] = best_jitter(model, &full, j, 10.0 * rms.max(1.0));
+        }
+        let new_l = model.ln_likelihood(&full);
+        let gain = new_l - ln_l;
+        ln_l = new_l;
+        if gain.abs() < settings.ln_l_tolerance {
+            converged = lsq_ok;
+            break;
+        }
+    }
+    Some(Single {
+        full,
+        ln_l,
+        converged,
+        status,
+        rounds,
+    })
+}
+
+/// Fit `model` by maximum likelihood from each full starting vector in
+/// `starts` (in parallel; the best ln L wins, ties to the lower index, so
+/// the result does not depend on the thread count).
+pub fn fit_model(
+    model: &RvModel,
+    starts: &[Vec<f64>],
+    settings: &FitSettings,
+) -> Result<FitResult, FitError> {
+    let n = model.params.len();
+    if let Some(s) = starts.iter().find(|s| s.len() != n) {
+        return Err(FitError::StartLength {
+            expected: n,
+            got: s.len(),
+        });
+    }
+    let runs: Vec<Option<Single>> = starts
+        .par_iter()
+        .map(|s| fit_one(model, s, settings))
+        .collect();
+    let mut best: Option<(usize, &Single)> = None;
+    for (i, r) in runs.iter().enumerate() {
+        if let Some(r) = r {
+            if best.is_none_or(|(_, b)| r.ln_l > b.ln_l) {
+                best = Some((i, r));
+            }
+        }
+    }
+    let Some((best_start, single)) = best else {
+        return Err(FitError::NoValidStart(format!(
+            "{} starts tried",
+            starts.len()
+        )));
+    };
+    let std_errors = standard_errors(model, &single.full);
+    let n_free = model.params.n_free();
+    let n_points = model.obs.len();
+    Ok(FitResult {
+        names: model
+            .params
+            .parameters()
+            .iter()
+            .map(|p| p.name.clone())
+            .collect(),
+        values: single.full.clone(),
+        std_errors,
+        ln_likelihood: single.ln_l,
+        chi_square: model.chi_square(&single.full),
+        n_free,
+        n_points,
+        bic: bic(single.ln_l, n_free, n_points),
+        aicc: aicc(single.ln_l, n_free, n_points),
+        converged: single.converged,
+        status: single.status.clone(),
+        rounds: single.rounds,
+        best_start,
+    })
+}
+
+/// Standard errors of the least-squares parameters at `full` from the
+/// unscaled covariance (the residuals are already whitened with the
+/// fitted jitters), mapped to the constrained space by |dx/du|.
+fn standard_errors(model: &RvModel, full: &[f64]) -> Vec<Option<f64>> {
+    let params = model.params.parameters();
+    let jitter_idx: Vec<usize> = model
+        .obs
+        .instruments
+        .iter()
+        .filter_map(|i| model.params.index_of(&format!("{i}.jitter")))
+        .collect();
+    let idx: Vec<usize> = model
+        .params
+        .free_indices()
+        .iter()
+        .copied()
+        .filter(|i| !jitter_idx.contains(i))
+        .collect();
+    let mut out = vec![None; params.len()];
+    if idx.is_empty() {
+        return out;
+    }
+    let block = Block {
+        model,
+        base: full.to_vec(),
+        idx: idx.clone(),
+        gaussian_rows: Vec::new(),
+        jitters: model.jitters_of(full),
+        n_data: model.obs.len(),
+    };
+    let u: Vec<f64> = idx
+        .iter()
+        .map(|&i| model.params.inverse_one(i, full[i]))
+        .collect();
+    if let Ok(cov) = covariance_at(
+        &block,
+        &u,
+        JacobianSource::Auto,
+        CovarianceScaling::Unscaled,
+    ) {
+        for (k, &i) in idx.iter().enumerate() {
+            let (_, ln_jac) = model.params.forward_one(i, u[k]);
+            let se = cov.std_errors[k] * ln_jac.exp();
+            if se.is_finite() {
+                out[i] = Some(se);
+            }
+        }
+    }
+    out
+}
