@@ -1,0 +1,1 @@
+//! Analytic stability criteria (placeholder while secular builds).
