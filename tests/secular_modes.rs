@@ -343,6 +343,25 @@ fn apsidal_rates() {
 }
 
 #[test]
+fn circular_planets_have_no_rate_but_a_summary() {
+    // All orbits circular: e stays 0 forever (h = k = 0 is the solution),
+    // the pericentre is undefined and reported as absent, never NaN.
+    let mut sys = jupiter_saturn();
+    for p in &mut sys.planets {
+        p.e = 0.0;
+    }
+    let sol = solve_secular(&sys).unwrap();
+    assert!(sol.state(0, 10.0).is_err());
+    let s = sol.summary(1e5).unwrap();
+    assert!(
+        s.planets
+            .iter()
+            .all(|p| p.varpi_rate_now_deg_per_yr.is_none() && p.e_max == 0.0)
+    );
+    assert!(s.g_deg_per_yr.iter().all(|g| g.is_finite()));
+}
+
+#[test]
 fn bad_input_is_refused() {
     let mut sys = jupiter_saturn();
     sys.planets.swap(0, 1);

@@ -676,13 +676,23 @@ impl SecularSolution {
         let n = self.ecc_phases.len();
         let mut planets = Vec::with_capacity(n);
         for j in 0..n {
-            let now = self.state(j, 0.0)?;
-            let mean = self.mean_varpi_rate(j, span_yr)?;
+            // A planet whose eccentricity vector vanishes has no pericentre:
+            // its rates are reported as absent rather than as an error.
+            let now = match self.state(j, 0.0) {
+                Ok(st) => Some(st.varpi_rate_deg_per_yr),
+                Err(SecularError::UndefinedAngle) => None,
+                Err(e) => return Err(e),
+            };
+            let mean = match self.mean_varpi_rate(j, span_yr) {
+                Ok(m) => Some(m),
+                Err(SecularError::UndefinedAngle) => None,
+                Err(e) => return Err(e),
+            };
             let (e_min, e_max) = self.eccentricity_envelope(j)?;
             planets.push(PlanetSecularSummary {
-                varpi_rate_now_deg_per_yr: now.varpi_rate_deg_per_yr,
-                mean_varpi_rate_deg_per_yr: mean.rate.to_degrees(),
-                dominant_mode: mean.dominant_mode,
+                varpi_rate_now_deg_per_yr: now,
+                mean_varpi_rate_deg_per_yr: mean.map(|m| m.rate.to_degrees()),
+                dominant_mode: mean.and_then(|m| m.dominant_mode),
                 e_min,
                 e_max,
             });
@@ -700,10 +710,11 @@ impl SecularSolution {
 /// Per-planet part of [`SecularSummary`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PlanetSecularSummary {
-    /// dϖ/dt at the epoch, deg/yr.
-    pub varpi_rate_now_deg_per_yr: f64,
-    /// Long-term mean dϖ/dt, deg/yr.
-    pub mean_varpi_rate_deg_per_yr: f64,
+    /// dϖ/dt at the epoch, deg/yr (`None` if e = 0 at the epoch).
+    pub varpi_rate_now_deg_per_yr: Option<f64>,
+    /// Long-term mean dϖ/dt, deg/yr (`None` if the eccentricity vector
+    /// vanishes identically or passes through zero during the unwrapping).
+    pub mean_varpi_rate_deg_per_yr: Option<f64>,
     /// Dominant eccentricity mode, if one dominates.
     pub dominant_mode: Option<usize>,
     /// Lower envelope of e(t).
