@@ -11,6 +11,7 @@
 
 #![deny(missing_docs)]
 
+pub mod compare;
 pub mod config;
 pub mod data;
 pub mod fit;
@@ -18,4 +19,5 @@ pub mod kepler;
 pub mod model;
 pub mod nbody;
 pub mod periodogram;
+pub mod stability;
 pub mod units;

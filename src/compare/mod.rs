@@ -1,0 +1,4 @@
+//! Keplerian-versus-dynamical comparison: statistics, resonance diagnosis,
+//! secular (long-term) predictions and flags.
+
+pub mod secular;

@@ -1,0 +1,3 @@
+//! Orbital stability: chaos indicators, events, analytic criteria, surveys and maps.
+
+pub mod criteria;
