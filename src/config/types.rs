@@ -41,6 +41,12 @@ pub struct RunFile {
     /// for a seed whatever the thread count). Default: chosen by the caller.
     #[serde(default)]
     pub seed: Option<u64>,
+    /// What to fit and how. Default: a Keplerian fit with default priors.
+    #[serde(default)]
+    pub fit: Option<super::sections::FitSection>,
+    /// Posterior sampling. Default: no sampling.
+    #[serde(default)]
+    pub sampler: Option<super::sections::SamplerSection>,
 }
 
 /// One RV table and the instrument of its lines.

@@ -1,6 +1,7 @@
 //! Physical and logical range checks of a parsed run file.
 
 use super::error::{FieldPath, ValidationIssue};
+use super::sections::{FitSection, IntegratorChoice};
 use super::types::{InstrumentChoice, RunFile, Signal};
 
 /// Whether a label is usable as an instrument name in tables: non-empty,
@@ -213,5 +214,161 @@ pub fn validate(run: &RunFile) -> Vec<ValidationIssue> {
             c.push(root.field("output"), None, "must not be empty".into());
         }
     }
+    if let Some(fit) = &run.fit {
+        check_fit(&mut c, run, fit, &root.field("fit"));
+    }
+    if let Some(s) = &run.sampler {
+        let f = root.field("sampler");
+        if s.steps == 0 {
+            c.push(f.field("steps"), None, "must be at least 1".into());
+        }
+        if let Some(w) = s.walkers {
+            if w < 4 || w % 2 != 0 {
+                c.push(
+                    f.field("walkers"),
+                    None,
+                    format!("must be an even number ≥ 4, found {w}"),
+                );
+            }
+        }
+        if let Some(b) = s.burn_in {
+            if b >= s.steps {
+                c.push(
+                    f.field("burn_in"),
+                    None,
+                    format!("must be below steps ({}), found {b}", s.steps),
+                );
+            }
+        }
+        if s.thin == Some(0) {
+            c.push(f.field("thin"), None, "must be at least 1".into());
+        }
+        if s.checkpoint_every == Some(0) {
+            c.push(
+                f.field("checkpoint_every"),
+                None,
+                "must be at least 1".into(),
+            );
+        }
+    }
     c.issues
+}
+
+/// Parameter fields a planet has in some model (see `fit::models`).
+const PLANET_FIELDS: [&str; 7] = [
+    "period",
+    "semi_amplitude",
+    "sqrt_e_cos_w",
+    "sqrt_e_sin_w",
+    "mean_longitude",
+    "inclination",
+    "node_difference",
+];
+
+/// Check the fit section: models listed, priors valid, override names that
+/// can exist (planets of the run file; instruments when declared).
+fn check_fit(c: &mut Checker, run: &RunFile, fit: &FitSection, f: &FieldPath) {
+    if fit.models.is_empty() {
+        c.push(
+            f.field("models"),
+            None,
+            "must list at least one model".into(),
+        );
+    }
+    match fit.integrator {
+        IntegratorChoice::Symplectic(h) => c.number(
+            f.field("integrator"),
+            None,
+            h,
+            |x| x > 0.0,
+            "a positive step in days",
+        ),
+        IntegratorChoice::GaussRadau(tol) => c.number(
+            f.field("integrator"),
+            None,
+            tol,
+            |x| x > 0.0 && x < 1.0,
+            "a relative tolerance in (0, 1)",
+        ),
+        IntegratorChoice::SymplecticAuto => {}
+    }
+    for (k, o) in fit.priors.iter().enumerate() {
+        let fp = f.field("priors").index(k);
+        let name = o.parameter.as_str();
+        let known = match name.split_once('.') {
+            Some((owner, field)) => {
+                let planet =
+                    run.planets.iter().any(|p| p.name == owner) && PLANET_FIELDS.contains(&field);
+                let inst = matches!(field, "offset" | "jitter")
+                    && run
+                        .instruments
+                        .as_ref()
+                        .is_none_or(|names| names.iter().any(|n| n == owner));
+                let trend = owner == "trend" && matches!(field, "slope" | "curvature");
+                planet || inst || trend
+            }
+            None => name == "sin_i",
+        };
+        if !known {
+            let instruments = run
+                .instruments
+                .as_ref()
+                .map_or(String::from("any"), |n| n.join(", "));
+            c.push(
+                fp.field("parameter"),
+                None,
+                format!(
+                    "unknown parameter '{name}' (planets: {}; instruments: {instruments}; fields: {}, offset, jitter, sin_i, trend.slope, trend.curvature)",
+                    run.planets.iter().map(|p| p.name.as_str()).collect::<Vec<_>>().join(", "),
+                    PLANET_FIELDS.join(", ")
+                ),
+            );
+        }
+        if o.prior.is_none() && o.fixed.is_none() {
+            c.push(
+                fp.clone(),
+                None,
+                "give a prior, a fixed value, or both".into(),
+            );
+        }
+        if let Some(p) = &o.prior {
+            if let Err(e) = p.validate(name) {
+                c.push(fp.field("prior"), None, e.to_string());
+            } else if name.ends_with(".sqrt_e_cos_w") || name.ends_with(".sqrt_e_sin_w") {
+                let (lo, hi) = p.support();
+                if lo < -1.0 || hi > 1.0 {
+                    c.push(fp.field("prior"), None, format!("√e cos ω⋆ and √e sin ω⋆ must stay within [−1, 1] (e < 1), found [{lo}, {hi}]"));
+                }
+            } else if name.ends_with(".inclination") {
+                let (lo, hi) = p.support();
+                if lo < 0.0 || hi > 180.0 {
+                    c.push(fp.field("prior"), None, format!("an inclination prior must lie within [0, 180] degrees, found [{lo}, {hi}]"));
+                }
+            } else if name.ends_with(".jitter")
+                || name.ends_with(".period")
+                || name.ends_with(".semi_amplitude")
+            {
+                let (lo, _) = p.support();
+                if lo < 0.0 {
+                    c.push(
+                        fp.field("prior"),
+                        None,
+                        format!("must not extend below 0, found lower bound {lo}"),
+                    );
+                }
+            } else if name == "sin_i" {
+                let (lo, hi) = p.support();
+                if lo <= 0.0 || hi > 1.0 {
+                    c.push(
+                        fp.field("prior"),
+                        None,
+                        format!("sin i must lie within (0, 1], found [{lo}, {hi}]"),
+                    );
+                }
+            }
+        }
+        if let Some(v) = o.fixed {
+            c.number(fp.field("fixed"), None, v, |_| true, "");
+        }
+    }
 }
