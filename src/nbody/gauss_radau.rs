@@ -38,7 +38,9 @@
 use nalgebra::Vector3;
 
 use super::events::{Event, EventSettings, NbodyError};
-use super::forces::{add_post_newtonian_accelerations, newtonian_accelerations};
+use super::forces::{
+    add_post_newtonian_accelerations, newtonian_accelerations, newtonian_accelerations_flat,
+};
 use super::integrator::Integrator;
 use super::system::{Snapshot, System};
 use crate::units::G;
@@ -270,23 +272,52 @@ impl ForceBuffers {
         v: &[f64],
         out: &mut [f64],
     ) {
+        if !post_newtonian {
+            newtonian_accelerations_flat(masses, x, out);
+            return;
+        }
         let n = self.pos.len();
         for i in 0..n {
             self.pos[i] = Vector3::new(x[3 * i], x[3 * i + 1], x[3 * i + 2]);
+            self.vel[i] = Vector3::new(v[3 * i], v[3 * i + 1], v[3 * i + 2]);
         }
         newtonian_accelerations(masses, &self.pos, &mut self.acc);
-        if post_newtonian {
-            for i in 0..n {
-                self.vel[i] = Vector3::new(v[3 * i], v[3 * i + 1], v[3 * i + 2]);
-            }
-            add_post_newtonian_accelerations(masses, &self.pos, &self.vel, &mut self.acc);
-        }
+        add_post_newtonian_accelerations(masses, &self.pos, &self.vel, &mut self.acc);
         for i in 0..n {
             out[3 * i] = self.acc[i].x;
             out[3 * i + 1] = self.acc[i].y;
             out[3 * i + 2] = self.acc[i].z;
         }
     }
+}
+
+/// The corrector for node `K + 1`: the new divided difference g_K from the
+/// acceleration `at` there, and the change of g_K carried into b_0..b_K
+/// (Everhart 1985, eqs. 8–10). Returns max |Δg_K| (= max |Δb_K| for the
+/// last node, where c[6][6] = 1). Unrolled per node by the const `K`.
+#[inline(always)]
+fn corrector<const K: usize>(
+    inv: &[f64; 8],
+    c: &[f64; 7],
+    at: &[f64],
+    a0: &[f64],
+    g: &mut [[f64; 7]],
+    b: &mut [[f64; 7]],
+) -> f64 {
+    let mut max_delta: f64 = 0.0;
+    for (((gj, bj), &a), &a0j) in g.iter_mut().zip(b.iter_mut()).zip(at).zip(a0) {
+        let mut gk = (a - a0j) * inv[0];
+        for m in 0..K {
+            gk = (gk - gj[m]) * inv[m + 1];
+        }
+        let delta = gk - gj[K];
+        gj[K] = gk;
+        for m in 0..=K {
+            bj[m] += delta * c[m];
+        }
+        max_delta = max_delta.max(delta.abs());
+    }
+    max_delta
 }
 
 /// The 15th-order adaptive Gauss–Radau (IAS15-type) integrator of a
@@ -609,14 +640,22 @@ impl GaussRadau {
                 let mut max_delta6: f64 = 0.0;
                 let mut max_at: f64 = 0.0;
                 for (n, &tau) in NODES.iter().enumerate().skip(1) {
-                    for j in 0..n3 {
-                        self.xs[j] = self.x[j]
-                            + (pos_poly(dt, tau, self.v[j], self.a0[j], &self.b[j]) - self.csx[j]);
+                    for ((xs, (&x, &cs)), (&v, (&a0, b))) in self
+                        .xs
+                        .iter_mut()
+                        .zip(self.x.iter().zip(&self.csx))
+                        .zip(self.v.iter().zip(self.a0.iter().zip(&self.b)))
+                    {
+                        *xs = x + (pos_poly(dt, tau, v, a0, b) - cs);
                     }
                     if self.post_newtonian {
-                        for j in 0..n3 {
-                            self.vs[j] = self.v[j]
-                                + (vel_poly(dt, tau, self.a0[j], &self.b[j]) - self.csv[j]);
+                        for ((vs, (&v, &cs)), (&a0, b)) in self
+                            .vs
+                            .iter_mut()
+                            .zip(self.v.iter().zip(&self.csv))
+                            .zip(self.a0.iter().zip(&self.b))
+                        {
+                            *vs = v + (vel_poly(dt, tau, a0, b) - cs);
                         }
                     }
                     self.forces.eval(
@@ -628,29 +667,19 @@ impl GaussRadau {
                     );
                     let inv = &self.tables.inv[n];
                     let c = &self.tables.c[n - 1];
-                    let k = n - 1;
-                    for j in 0..n3 {
-                        let gj = &mut self.g[j];
-                        let mut gk = (self.at[j] - self.a0[j]) * inv[0];
-                        for m in 0..k {
-                            gk = (gk - gj[m]) * inv[m + 1];
-                        }
-                        let delta = gk - gj[k];
-                        gj[k] = gk;
-                        let bj = &mut self.b[j];
-                        for m in 0..=k {
-                            bj[m] += delta * c[m];
-                        }
-                        if n == 7 {
-                            let ad = delta.abs();
-                            if ad > max_delta6 {
-                                max_delta6 = ad;
-                            }
-                            let aa = self.at[j].abs();
-                            if aa > max_at {
-                                max_at = aa;
-                            }
-                        }
+                    let (at, a0, g, b) = (&self.at, &self.a0, &mut self.g, &mut self.b);
+                    let md = match n {
+                        1 => corrector::<0>(inv, c, at, a0, g, b),
+                        2 => corrector::<1>(inv, c, at, a0, g, b),
+                        3 => corrector::<2>(inv, c, at, a0, g, b),
+                        4 => corrector::<3>(inv, c, at, a0, g, b),
+                        5 => corrector::<4>(inv, c, at, a0, g, b),
+                        6 => corrector::<5>(inv, c, at, a0, g, b),
+                        _ => corrector::<6>(inv, c, at, a0, g, b),
+                    };
+                    if n == 7 {
+                        max_delta6 = md;
+                        max_at = at.iter().fold(0.0f64, |m, a| m.max(a.abs()));
                     }
                 }
                 pc_err = if max_at > 0.0 {
