@@ -27,7 +27,7 @@ fn epochs() -> Vec<f64> {
 
 /// Star RVs (m/s) at `epochs` (sorted) with Gauss–Radau at tolerance
 /// `eps`: one integrator forward from t_ref, one backward.
-fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) {
+fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) -> u64 {
     let st = GaussRadauSettings {
         tolerance: eps,
         ..GaussRadauSettings::default()
@@ -45,6 +45,9 @@ fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) {
         back.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
     }
+    // Force evaluations: one at each step start, seven per iteration.
+    let evals = |g: &GaussRadau| g.steps() + g.rejected_steps() + 7 * g.iterations();
+    evals(&fwd) + evals(&back)
 }
 
 type State = SVector<f64, 18>;
@@ -82,7 +85,7 @@ impl ode_solvers::System<f64, State> for Newton {
 /// dense output every SPACING days (one interval past the last epoch: the
 /// final dense point of ode_solvers 0.6.2 is wrong, see
 /// tests/nbody_reference_ode.rs).
-fn dop_rv(sys: &System, tol: f64, out: &mut [f64]) {
+fn dop_rv(sys: &System, tol: f64, out: &mut [f64]) -> u64 {
     let mut y0 = State::zeros();
     for i in 0..3 {
         for c in 0..3 {
@@ -102,7 +105,7 @@ fn dop_rv(sys: &System, tol: f64, out: &mut [f64]) {
         tol,
         tol,
     );
-    f.integrate().unwrap();
+    let sf = f.integrate().unwrap();
     for (k, y) in f.y_out().iter().enumerate().take(N_EPOCHS - i_ref) {
         out[i_ref + k] = au_per_day_to_m_s(y[11]);
     }
@@ -116,10 +119,11 @@ fn dop_rv(sys: &System, tol: f64, out: &mut [f64]) {
         tol,
         tol,
     );
-    b.integrate().unwrap();
+    let sb = b.integrate().unwrap();
     for (k, y) in b.y_out().iter().enumerate().take(i_ref + 1) {
         out[i_ref - k] = au_per_day_to_m_s(y[11]);
     }
+    (sf.num_eval + sb.num_eval) as u64
 }
 
 fn max_diff(a: &[f64], b: &[f64]) -> f64 {
@@ -133,7 +137,8 @@ fn bench(c: &mut Criterion) {
     let sys = support::two_giants(T_REF);
     let ep = epochs();
     let mut reference = vec![0.0; N_EPOCHS];
-    gr_rv(&sys, &ep, 1e-9, &mut reference);
+    let n_ref = gr_rv(&sys, &ep, 1e-9, &mut reference);
+    println!("Gauss–Radau ε = 1e-9: {n_ref} force evaluations");
     let mut tmp = vec![0.0; N_EPOCHS];
     gr_rv(&sys, &ep, 1e-11, &mut tmp);
     let gr_err = max_diff(&tmp, &reference);
@@ -143,17 +148,20 @@ fn bench(c: &mut Criterion) {
     );
     let mut gr_ladder = Vec::new();
     for eps in [1e-8, 1e-7, 1e-6, 1e-5, 1e-4, 1e-3, 1e-2] {
-        gr_rv(&sys, &ep, eps, &mut tmp);
+        let n_ev = gr_rv(&sys, &ep, eps, &mut tmp);
         let e = max_diff(&tmp, &reference);
-        println!("Gauss–Radau ε = {eps:.0e}: max |Δv| vs ε = 1e-9 = {e:.2e} m/s");
+        println!(
+            "Gauss–Radau ε = {eps:.0e}: max |Δv| vs ε = 1e-9 = {e:.2e} m/s, {n_ev} force evaluations"
+        );
         gr_ladder.push((eps, e));
     }
     // Pairs at matched accuracy: for each Dop853 tolerance, the loosest
     // Gauss–Radau ε whose RV error is no larger than Dop853's.
     let mut pairs = Vec::new();
     for tol in [1e-11, 1e-13, 1e-15] {
-        dop_rv(&sys, tol, &mut tmp);
+        let n_ev = dop_rv(&sys, tol, &mut tmp);
         let e = max_diff(&tmp, &reference);
+        println!("Dop853 tol = {tol:.0e}: {n_ev} force evaluations");
         let (eps, e_gr) = gr_ladder
             .iter()
             .rev()
