@@ -80,7 +80,9 @@ pub fn newtonian_accelerations_flat(masses: &[f64], pos: &[f64], acc: &mut [f64]
     let n = masses.len();
     let pos = &pos[..3 * n];
     let acc = &mut acc[..3 * n];
-    acc.fill(0.0);
+    for a in acc.iter_mut() {
+        *a = 0.0;
+    }
     for i in 0..n {
         let (xi, yi, zi) = (pos[3 * i], pos[3 * i + 1], pos[3 * i + 2]);
         let mi = masses[i];

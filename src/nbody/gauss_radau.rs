@@ -110,6 +110,10 @@ struct Tables {
     c: [[f64; 7]; 7],
     /// g from b: g_k = Σ_{m ≥ k} d[m][k] b_m (τ^{m+1} in the Newton basis).
     d: [[f64; 7]; 7],
+    /// Position weights at node n: w[n][0] = τ²/2 (for a₀) and
+    /// w[n][k+1] = τ^{k+3}/((k+2)(k+3)) (for b_k), τ = h_n; times Δt² they
+    /// give the position polynomial as a dot product.
+    w: [[f64; 8]; 8],
 }
 
 impl Tables {
@@ -143,7 +147,15 @@ impl Tables {
                 d[m][k] = up + h[k + 1] * same;
             }
         }
-        Tables { inv, c, d }
+        let mut w = [[0.0; 8]; 8];
+        for n in 1..8 {
+            let tau = h[n];
+            w[n][0] = tau * tau / 2.0;
+            for k in 0..7 {
+                w[n][k + 1] = tau.powi(k as i32 + 3) / (((k + 2) * (k + 3)) as f64);
+            }
+        }
+        Tables { inv, c, d, w }
     }
 }
 
@@ -640,13 +652,28 @@ impl GaussRadau {
                 let mut max_delta6: f64 = 0.0;
                 let mut max_at: f64 = 0.0;
                 for (n, &tau) in NODES.iter().enumerate().skip(1) {
+                    let s_dt = dt * tau;
+                    let wn = self.tables.w[n];
+                    let dt2 = dt * dt;
+                    let wa = wn[0] * dt2;
+                    let wb = [
+                        wn[1] * dt2,
+                        wn[2] * dt2,
+                        wn[3] * dt2,
+                        wn[4] * dt2,
+                        wn[5] * dt2,
+                        wn[6] * dt2,
+                        wn[7] * dt2,
+                    ];
                     for ((xs, (&x, &cs)), (&v, (&a0, b))) in self
                         .xs
                         .iter_mut()
                         .zip(self.x.iter().zip(&self.csx))
                         .zip(self.v.iter().zip(self.a0.iter().zip(&self.b)))
                     {
-                        *xs = x + (pos_poly(dt, tau, v, a0, b) - cs);
+                        let p = (wa * a0 + wb[0] * b[0] + wb[1] * b[1] + wb[2] * b[2])
+                            + (wb[3] * b[3] + wb[4] * b[4] + wb[5] * b[5] + wb[6] * b[6]);
+                        *xs = x + ((s_dt * v + p) - cs);
                     }
                     if self.post_newtonian {
                         for ((vs, (&v, &cs)), (&a0, b)) in self
