@@ -407,3 +407,18 @@ fn bad_requests_are_refused() {
         Err(NbodyError::InvalidRequest(_))
     ));
 }
+
+#[test]
+fn coincident_bodies_give_a_typed_error() {
+    // Two point masses at the same place: the force is infinite. The run
+    // must end with NbodyError::NonFinite, the state left finite.
+    let mut sys = support::two_giants(0.0);
+    sys.state.pos[2] = sys.state.pos[1];
+    let mut gr = GaussRadau::new(sys, settings()).unwrap();
+    let mut snap = Snapshot::zeros(3, 0.0);
+    assert!(matches!(
+        gr.advance_to(10.0, &mut snap),
+        Err(NbodyError::NonFinite { .. })
+    ));
+    assert!(finite(&gr.snapshot()));
+}

@@ -789,6 +789,12 @@ impl GaussRadau {
                 add_cs(v, cv, self.a0[j] * dt);
             }
             if !self.x.iter().chain(self.v.iter()).all(|c| c.is_finite()) {
+                // Leave the last finite state in place (no NaN escapes).
+                self.x.copy_from_slice(&self.step_x0);
+                self.v.copy_from_slice(&self.step_v0);
+                self.csx.fill(0.0);
+                self.csv.fill(0.0);
+                self.have_step = false;
                 return Err(NbodyError::NonFinite { t: self.t + dt });
             }
             add_cs(&mut self.t, &mut self.t_cs, dt);
