@@ -34,6 +34,9 @@
 //!
 //! Written by hand: no maintained crate provides IAS15 / Gauss–Radau with
 //! dense output and events, and the method is short enough to own.
+//!
+//! (Equation and section numbers of the papers above are cited from
+//! memory; the algorithm itself is the published one.)
 
 use nalgebra::Vector3;
 
@@ -1058,7 +1061,7 @@ mod tests {
     fn radau_nodes_integrate_to_degree_fourteen() {
         // Gauss–Radau quadrature with 8 nodes (one fixed at 0) is exact for
         // polynomials up to degree 2·8 − 2 = 14 (Abramowitz & Stegun 1964,
-        // §25.4.31). Fit weights on degrees 0..7, check degrees 8..14.
+        // §25.4.31, from memory). Fit weights on degrees 0..7, check degrees 8..14.
         let v = nalgebra::SMatrix::<f64, 8, 8>::from_fn(|k, i| NODES[i].powi(k as i32));
         let rhs = nalgebra::SVector::<f64, 8>::from_fn(|k, _| 1.0 / (k as f64 + 1.0));
         let w = v.lu().solve(&rhs).unwrap();
