@@ -6,6 +6,7 @@
 
 pub mod events;
 pub mod forces;
+pub mod gauss_radau;
 pub mod integrator;
 pub mod system;
 

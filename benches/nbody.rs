@@ -1,0 +1,195 @@
+//! N-body RV evaluation: Gauss–Radau (IAS15-type) against the
+//! general-purpose `ode_solvers` Dop853 at matched RV accuracy.
+//!
+//! System: "two giants near 2:1" (tests/nbody_support), 400 epochs every
+//! 10 d over 4000 d, reference epoch in the middle (t_ref = 2000 d), the
+//! star's barycentric v_z at every epoch, integrating both ways from t_ref.
+//! Run: `cargo bench --bench nbody -- --warm-up-time 1 --measurement-time 3`.
+
+#[path = "../tests/nbody_support/mod.rs"]
+mod support;
+
+use std::hint::black_box;
+
+use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings};
+use apsidal::nbody::{Integrator, Snapshot, System};
+use apsidal::units::{G, au_per_day_to_m_s};
+use criterion::{Criterion, criterion_group, criterion_main};
+use ode_solvers::{Dop853, SVector};
+
+const N_EPOCHS: usize = 400;
+const SPACING: f64 = 10.0;
+const T_REF: f64 = 2000.0;
+
+fn epochs() -> Vec<f64> {
+    (0..N_EPOCHS).map(|i| i as f64 * SPACING).collect()
+}
+
+/// Star RVs (m/s) at `epochs` (sorted) with Gauss–Radau at tolerance
+/// `eps`: one integrator forward from t_ref, one backward.
+fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) -> u64 {
+    let st = GaussRadauSettings {
+        tolerance: eps,
+        ..GaussRadauSettings::default()
+    };
+    let n = sys.masses.len();
+    let mut snap = Snapshot::zeros(n, 0.0);
+    let split = epochs.partition_point(|t| *t < T_REF);
+    let mut fwd = GaussRadau::new(sys.clone(), st).unwrap();
+    for i in split..epochs.len() {
+        fwd.advance_to(epochs[i], &mut snap).unwrap();
+        out[i] = au_per_day_to_m_s(snap.vel[0].z);
+    }
+    let mut back = GaussRadau::new(sys.clone(), st).unwrap();
+    for i in (0..split).rev() {
+        back.advance_to(epochs[i], &mut snap).unwrap();
+        out[i] = au_per_day_to_m_s(snap.vel[0].z);
+    }
+    // Force evaluations: one at each step start, seven per iteration.
+    let evals = |g: &GaussRadau| g.steps() + g.rejected_steps() + 7 * g.iterations();
+    evals(&fwd) + evals(&back)
+}
+
+type State = SVector<f64, 18>;
+
+/// Newton's equations for three point masses, first-order form.
+struct Newton {
+    masses: [f64; 3],
+}
+
+impl ode_solvers::System<f64, State> for Newton {
+    fn system(&self, _t: f64, y: &State, dy: &mut State) {
+        for i in 0..9 {
+            dy[i] = y[9 + i];
+            dy[9 + i] = 0.0;
+        }
+        for i in 0..3 {
+            for j in (i + 1)..3 {
+                let d = [
+                    y[3 * j] - y[3 * i],
+                    y[3 * j + 1] - y[3 * i + 1],
+                    y[3 * j + 2] - y[3 * i + 2],
+                ];
+                let r2 = d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+                let f = G / (r2 * r2.sqrt());
+                for c in 0..3 {
+                    dy[9 + 3 * i + c] += f * self.masses[j] * d[c];
+                    dy[9 + 3 * j + c] -= f * self.masses[i] * d[c];
+                }
+            }
+        }
+    }
+}
+
+/// Star RVs (m/s) with Dop853 (rtol = atol = `tol`) from t_ref both ways,
+/// dense output every SPACING days (one interval past the last epoch: the
+/// final dense point of ode_solvers 0.6.2 is wrong, see
+/// tests/nbody_reference_ode.rs).
+fn dop_rv(sys: &System, tol: f64, out: &mut [f64]) -> u64 {
+    let mut y0 = State::zeros();
+    for i in 0..3 {
+        for c in 0..3 {
+            y0[3 * i + c] = sys.state.pos[i][c];
+            y0[9 + 3 * i + c] = sys.state.vel[i][c];
+        }
+    }
+    let masses = [sys.masses[0], sys.masses[1], sys.masses[2]];
+    let i_ref = (T_REF / SPACING) as usize;
+    let fwd_span = (N_EPOCHS - 1 - i_ref) as f64 * SPACING;
+    let mut f = Dop853::new(
+        Newton { masses },
+        0.0,
+        fwd_span + SPACING,
+        SPACING,
+        y0,
+        tol,
+        tol,
+    );
+    let sf = f.integrate().unwrap();
+    for (k, y) in f.y_out().iter().enumerate().take(N_EPOCHS - i_ref) {
+        out[i_ref + k] = au_per_day_to_m_s(y[11]);
+    }
+    let back_span = i_ref as f64 * SPACING;
+    let mut b = Dop853::new(
+        Newton { masses },
+        0.0,
+        -back_span - SPACING,
+        -SPACING,
+        y0,
+        tol,
+        tol,
+    );
+    let sb = b.integrate().unwrap();
+    for (k, y) in b.y_out().iter().enumerate().take(i_ref + 1) {
+        out[i_ref - k] = au_per_day_to_m_s(y[11]);
+    }
+    (sf.num_eval + sb.num_eval) as u64
+}
+
+fn max_diff(a: &[f64], b: &[f64]) -> f64 {
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y).abs())
+        .fold(0.0, f64::max)
+}
+
+fn bench(c: &mut Criterion) {
+    let sys = support::two_giants(T_REF);
+    let ep = epochs();
+    let mut reference = vec![0.0; N_EPOCHS];
+    let n_ref = gr_rv(&sys, &ep, 1e-9, &mut reference);
+    println!("Gauss–Radau ε = 1e-9: {n_ref} force evaluations");
+    let mut tmp = vec![0.0; N_EPOCHS];
+    gr_rv(&sys, &ep, 1e-11, &mut tmp);
+    let gr_err = max_diff(&tmp, &reference);
+    let amp = reference.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    println!(
+        "RV amplitude {amp:.1} m/s; Gauss–Radau ε = 1e-9 vs 1e-11: max |Δv| = {gr_err:.2e} m/s"
+    );
+    let mut gr_ladder = Vec::new();
+    for eps in [1e-8, 1e-7, 1e-6, 1e-5, 1e-4, 1e-3, 1e-2] {
+        let n_ev = gr_rv(&sys, &ep, eps, &mut tmp);
+        let e = max_diff(&tmp, &reference);
+        println!(
+            "Gauss–Radau ε = {eps:.0e}: max |Δv| vs ε = 1e-9 = {e:.2e} m/s, {n_ev} force evaluations"
+        );
+        gr_ladder.push((eps, e));
+    }
+    // Pairs at matched accuracy: for each Dop853 tolerance, the loosest
+    // Gauss–Radau ε whose RV error is no larger than Dop853's.
+    let mut pairs = Vec::new();
+    for tol in [1e-11, 1e-13, 1e-15] {
+        let n_ev = dop_rv(&sys, tol, &mut tmp);
+        let e = max_diff(&tmp, &reference);
+        println!("Dop853 tol = {tol:.0e}: {n_ev} force evaluations");
+        let (eps, e_gr) = gr_ladder
+            .iter()
+            .rev()
+            .find(|x| x.1 <= e)
+            .copied()
+            .unwrap_or((1e-9, gr_err));
+        println!(
+            "Dop853 tol = {tol:.0e}: max |Δv| vs Gauss–Radau(1e-9) = {e:.2e} m/s; matched by Gauss–Radau ε = {eps:.0e} ({e_gr:.2e} m/s)"
+        );
+        pairs.push((tol, eps));
+    }
+
+    let mut g = c.benchmark_group("nbody_rv_400_epochs");
+    let mut out = vec![0.0; N_EPOCHS];
+    g.bench_function("gauss_radau_eps1e-9", |b| {
+        b.iter(|| gr_rv(black_box(&sys), &ep, 1e-9, &mut out))
+    });
+    for (tol, eps) in pairs {
+        g.bench_function(format!("dop853_tol{tol:.0e}"), |b| {
+            b.iter(|| dop_rv(black_box(&sys), tol, &mut out))
+        });
+        g.bench_function(
+            format!("gauss_radau_eps{eps:.0e}_matching_tol{tol:.0e}"),
+            |b| b.iter(|| gr_rv(black_box(&sys), &ep, eps, &mut out)),
+        );
+    }
+    g.finish();
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);
