@@ -21,3 +21,4 @@ pub mod nbody;
 pub mod periodogram;
 pub mod stability;
 pub mod units;
+pub mod workflow;

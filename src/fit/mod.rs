@@ -2,6 +2,7 @@
 //! optimisers, the ensemble sampler.
 
 pub mod best_fit;
+pub mod derived;
 pub mod likelihood;
 pub mod models;
 pub mod optimise;

@@ -1,0 +1,7 @@
+//! The astronomer's job as library calls: each function here is one step
+//! of the pipeline (periodogram → Keplerian fit → dynamical fit → …) on a
+//! dataset and a run file, returning a serialisable report. The command
+//! line is a thin layer over these.
+
+pub mod fitting;
+pub mod search;
