@@ -1,1 +1,3 @@
 //! Fitting: parameters and priors, optimisers, the ensemble sampler.
+
+pub mod sample;

@@ -1,0 +1,63 @@
+//! Observers: what hangs on the sampler from outside (progress display,
+//! checkpoints, stopping rules). The algorithm never calls them itself;
+//! [`EnsembleSampler::run`] calls each after every step.
+
+use std::path::PathBuf;
+
+use super::error::SampleError;
+use super::stretch::EnsembleSampler;
+
+/// Whether a run should go on after an observer has seen a step.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Flow {
+    /// Take the next step.
+    Continue,
+    /// Stop the run after this step.
+    Stop,
+}
+
+/// Something that looks at the sampler after each step.
+pub trait Observer {
+    /// Called after every step with the sampler's complete state.
+    ///
+    /// # Errors
+    /// Any error aborts the run and is returned by
+    /// [`EnsembleSampler::run`].
+    fn observe(&mut self, sampler: &EnsembleSampler) -> Result<Flow, SampleError>;
+}
+
+/// Writes an atomic checkpoint of the complete sampler state every
+/// `every` steps (when the total step count is a multiple of `every`).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Checkpointer {
+    path: PathBuf,
+    every: u64,
+    written: u64,
+}
+
+impl Checkpointer {
+    /// A checkpointer writing to `path` every `every` steps (`every` = 0 is
+    /// taken as 1).
+    pub fn new(path: impl Into<PathBuf>, every: u64) -> Self {
+        Self {
+            path: path.into(),
+            every: every.max(1),
+            written: 0,
+        }
+    }
+
+    /// Number of checkpoints written so far.
+    pub fn written(&self) -> u64 {
+        self.written
+    }
+}
+
+impl Observer for Checkpointer {
+    fn observe(&mut self, sampler: &EnsembleSampler) -> Result<Flow, SampleError> {
+        if sampler.steps_done() % self.every == 0 {
+            sampler.save_checkpoint(&self.path)?;
+            self.written += 1;
+        }
+        Ok(Flow::Continue)
+    }
+}
