@@ -6,7 +6,7 @@
 
 use apsidal::fit::sample::{
     Ball, DEFAULT_STRETCH_SCALE, DEFAULT_WINDOW_C, EnsembleSampler, LogTarget, gaussian_ball,
-    integrated_autocorr_time,
+    integrated_autocorr_time, suggest_burn_in_and_thin,
 };
 use nalgebra::DMatrix;
 use rand::{Rng, SeedableRng};
@@ -121,6 +121,9 @@ fn correlated_gaussian_moments_within_monte_carlo_error() {
         burn_in as f64 > 10.0 * tau_max,
         "burn-in shorter than 10 tau"
     );
+    let (b, t) = suggest_burn_in_and_thin(&taus);
+    println!("suggested burn-in {b}, thinning {t}");
+    assert!(b <= burn_in && b as f64 >= 2.0 * tau_max && t >= 1);
     let acc = sampler.overall_acceptance();
     assert!(acc > 0.1 && acc < 0.7, "acceptance {acc}");
 

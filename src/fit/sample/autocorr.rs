@@ -119,3 +119,21 @@ impl Chain {
             .collect()
     }
 }
+
+/// Burn-in and thinning suggested by the autocorrelation times of all
+/// parameters: burn-in = ⌈2 · max τ⌉ steps, thinning = max(1, ⌊min τ / 2⌋)
+/// (common practice for ensemble samplers; from memory). Returns `(0, 1)`
+/// for an empty slice.
+pub fn suggest_burn_in_and_thin(times: &[AutocorrTime]) -> (usize, usize) {
+    if times.is_empty() {
+        return (0, 1);
+    }
+    let max = times
+        .iter()
+        .map(|t| t.tau)
+        .fold(f64::NEG_INFINITY, f64::max);
+    let min = times.iter().map(|t| t.tau).fold(f64::INFINITY, f64::min);
+    let burn_in = (2.0 * max.max(0.0)).ceil() as usize;
+    let thin = ((0.5 * min).floor() as usize).max(1);
+    (burn_in, thin)
+}

@@ -10,11 +10,13 @@
 //!   [`Checkpointer`]) hang on [`EnsembleSampler::run`] from outside.
 //! * Diagnostics — acceptance fractions, integrated autocorrelation times
 //!   ([`Chain::autocorr_times`], Sokal 1997 windowing with c = 5) and a
-//!   "chain longer than 50 τ" flag.
+//!   "chain longer than 50 τ" flag; [`suggest_burn_in_and_thin`].
 //! * Output — [`Chain::samples`] (burn-in, thinning),
 //!   [`write_samples_csv`], and atomic RON checkpoints that resume
 //!   bit-for-bit ([`EnsembleSampler::save_checkpoint`],
-//!   [`EnsembleSampler::load_checkpoint`]).
+//!   [`EnsembleSampler::load_checkpoint`]). A checkpoint holds the whole
+//!   chain, so its size grows with the run (about 20 bytes per stored
+//!   number).
 //!
 //! Results for a seed do not depend on the number of rayon threads.
 //!
@@ -60,6 +62,7 @@ mod target;
 
 pub use autocorr::{
     AutocorrTime, DEFAULT_WINDOW_C, RELIABLE_LENGTH_FACTOR, integrated_autocorr_time,
+    suggest_burn_in_and_thin,
 };
 pub use chain::{Chain, Samples};
 pub use csv::{Derived, write_samples_csv};
