@@ -7,3 +7,4 @@ pub mod likelihood;
 pub mod models;
 pub mod optimise;
 pub mod params;
+pub mod sample;
