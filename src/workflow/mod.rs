@@ -4,4 +4,5 @@
 //! line is a thin layer over these.
 
 pub mod fitting;
+pub mod posterior;
 pub mod search;
