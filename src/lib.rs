@@ -11,6 +11,7 @@
 
 #![deny(missing_docs)]
 
+pub mod compare;
 pub mod config;
 pub mod data;
 pub mod fit;

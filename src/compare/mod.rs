@@ -1,0 +1,3 @@
+//! Keplerian-versus-dynamical comparison: resonance diagnosis of integrated solutions.
+
+pub mod resonance;
