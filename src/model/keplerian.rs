@@ -19,6 +19,7 @@
 use std::f64::consts::TAU;
 
 use crate::kepler::solve_kepler;
+use crate::kepler::trig::round_small;
 
 /// One Keplerian signal (one planet) of the star's RV.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -237,7 +238,8 @@ impl KeplerianParams {
 /// over epochs.
 struct Prepared {
     inv_period: f64,
-    m_ref: f64,
+    /// M_ref / 2π, in turns.
+    m_ref_turns: f64,
     e: f64,
     k_cos_w: f64,
     k_sqrt_sin_w: f64,
@@ -252,7 +254,7 @@ impl Prepared {
         let (sw, cw) = p.omega_star.sin_cos();
         Self {
             inv_period: 1.0 / p.period,
-            m_ref: p.mean_anomaly_ref,
+            m_ref_turns: p.mean_anomaly_ref / TAU,
             e,
             k_cos_w: k * cw,
             k_sqrt_sin_w: k * (1.0 - e * e).sqrt() * sw,
@@ -268,10 +270,11 @@ impl Prepared {
     /// K cos(ν + ω⋆) = K[(cos E − e) cos ω⋆ − √(1−e²) sin E sin ω⋆]/(1 − e cos E).
     #[inline]
     fn rv(&self, dt: f64) -> f64 {
-        // Phase reduced to (−½, ½] turns before scaling by 2π: exact
-        // subtraction, so long spans lose no precision in M.
-        let phase = dt * self.inv_period;
-        let m = self.m_ref + TAU * (phase - phase.round());
+        // Phase in turns, reduced to [−½, ½] before scaling by 2π (exact
+        // subtraction), so M ∈ [−π, π] needs no further range reduction
+        // and long spans lose no precision in M.
+        let phase = dt * self.inv_period + self.m_ref_turns;
+        let m = TAU * (phase - round_small(phase));
         match solve_kepler(m, self.e) {
             Some(s) => {
                 let den = 1.0 - self.e * s.cos_e;
