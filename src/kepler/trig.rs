@@ -36,6 +36,7 @@ pub(crate) fn round_small(x: f64) -> f64 {
 /// 2^-58 on [−π/4, π/4]), evaluated with Estrin's scheme for a short
 /// dependency chain, and fdlibm's split 1 − r²/2 for cos.
 #[inline(always)]
+#[allow(clippy::excessive_precision)] // the coefficients as published
 fn sin_cos_kernel(r: f64) -> (f64, f64) {
     const S1: f64 = -1.666_666_666_666_663_243_48e-1;
     const S2: f64 = 8.333_333_333_322_489_461_24e-3;
