@@ -5,7 +5,8 @@
 //!   of 1024 values of M in (−π, π]; criterion reports time per solve
 //!   (throughput in elements). `markley` is `apsidal::kepler::solve_kepler`
 //!   (Markley 1995 starter + one fifth-order correction, residual ≤ 1e-15);
-//!   `newton` is Newton's method from E₀ = M, iterated until
+//!   `markley_prepared` the same with a `KeplerSolver` built once per e
+//!   (as the RV model does); `newton` is Newton's method from E₀ = M, iterated until
 //!   |E − e sin E − M| ≤ 1e-14 (a looser stop, so the comparison favours
 //!   the baseline), returning E, sin E and cos E like the solver.
 //! - `kepler_rv/<method>`: a two-planet Keplerian RV model at 1000 epochs
@@ -17,7 +18,7 @@
 use std::f64::consts::{PI, TAU};
 use std::hint::black_box;
 
-use apsidal::kepler::solve_kepler;
+use apsidal::kepler::{KeplerSolver, solve_kepler};
 use apsidal::model::keplerian::{KeplerianParams, PlanetSignal, Trend, keplerian_model_rv};
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 
@@ -57,6 +58,22 @@ fn bench_solve(c: &mut Criterion) {
                     let mut acc = 0.0;
                     for &m in &ms {
                         if let Some(s) = solve_kepler(black_box(m), black_box(e)) {
+                            acc += s.e_anom + s.sin_e + s.cos_e;
+                        }
+                    }
+                    acc
+                })
+            },
+        );
+        let solver = KeplerSolver::new(e).unwrap();
+        g.bench_with_input(
+            BenchmarkId::new("markley_prepared", format!("e={e}")),
+            &solver,
+            |b, solver| {
+                b.iter(|| {
+                    let mut acc = 0.0;
+                    for &m in &ms {
+                        if let Some(s) = black_box(solver).solve(black_box(m)) {
                             acc += s.e_anom + s.sin_e + s.cos_e;
                         }
                     }

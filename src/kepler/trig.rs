@@ -72,13 +72,17 @@ pub(crate) fn sin_cos_bounded(x: f64) -> (f64, f64) {
     let k = round_small(x * TWO_OVER_PI);
     let r = (x - k * PIO2_HI) - k * PIO2_LO;
     let (s, c) = sin_cos_kernel(r);
-    // Quadrant k mod 4 ∈ {0, 1, 2, 3} (k ∈ [−3, 3] here).
-    match (k as i64) & 3 {
-        0 => (s, c),
-        1 => (c, -s),
-        2 => (-s, -c),
-        _ => (-c, s),
-    }
+    // Quadrant q = k mod 4 (two's complement: −1 → 3, −2 → 2), applied
+    // without branches or a jump table: odd q swaps sin and cos; sin
+    // changes sign for q ∈ {2, 3}, cos for q ∈ {1, 2}.
+    let q = (k as i64) as u64;
+    let (a, b) = if q & 1 == 1 { (c, s) } else { (s, c) };
+    let sign_a = ((q >> 1) & 1) << 63;
+    let sign_b = (((q + 1) >> 1) & 1) << 63;
+    (
+        f64::from_bits(a.to_bits() ^ sign_a),
+        f64::from_bits(b.to_bits() ^ sign_b),
+    )
 }
 
 /// Cube root of x > 0 to a relative error below 2.1e-5, which is all

@@ -18,7 +18,7 @@
 
 use std::f64::consts::TAU;
 
-use crate::kepler::solve_kepler;
+use crate::kepler::KeplerSolver;
 use crate::kepler::trig::round_small;
 
 /// One Keplerian signal (one planet) of the star's RV.
@@ -241,6 +241,8 @@ struct Prepared {
     /// M_ref / 2π, in turns.
     m_ref_turns: f64,
     e: f64,
+    /// `None` only for an invalid e, which validation excludes.
+    solver: Option<KeplerSolver>,
     k_cos_w: f64,
     k_sqrt_sin_w: f64,
     k_e_cos_w: f64,
@@ -256,6 +258,7 @@ impl Prepared {
             inv_period: 1.0 / p.period,
             m_ref_turns: p.mean_anomaly_ref / TAU,
             e,
+            solver: KeplerSolver::new(e),
             k_cos_w: k * cw,
             k_sqrt_sin_w: k * (1.0 - e * e).sqrt() * sw,
             k_e_cos_w: k * e * cw,
@@ -275,7 +278,7 @@ impl Prepared {
         // and long spans lose no precision in M.
         let phase = dt * self.inv_period + self.m_ref_turns;
         let m = TAU * (phase - round_small(phase));
-        match solve_kepler(m, self.e) {
+        match self.solver.and_then(|k| k.solve(m)) {
             Some(s) => {
                 let den = 1.0 - self.e * s.cos_e;
                 ((s.cos_e - self.e) * self.k_cos_w - s.sin_e * self.k_sqrt_sin_w) / den
