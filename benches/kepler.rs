@@ -6,12 +6,13 @@
 //!   (throughput in elements). `markley` is `apsidal::kepler::solve_kepler`
 //!   (Markley 1995 starter + one fifth-order correction, residual ≤ 1e-15);
 //!   `markley_prepared` the same with a `KeplerSolver` built once per e
-//!   (as the RV model does); `newton` is Newton's method from E₀ = M, iterated until
+//!   ; `markley_slice` `KeplerSolver::solve_slice` (four interleaved
+//!   lanes, as the RV model uses); `newton` is Newton's method from E₀ = M, iterated until
 //!   |E − e sin E − M| ≤ 1e-14 (a looser stop, so the comparison favours
 //!   the baseline), returning E, sin E and cos E like the solver.
 //! - `kepler_rv/<method>`: a two-planet Keplerian RV model at 1000 epochs
-//!   (time per epoch), `model` = `keplerian_model_rv`, `newton` the same
-//!   formula with the Newton solver.
+//!   (time per epoch, i.e. two solves), `model` = `keplerian_model_rv`,
+//!   `newton` the same formula and phase arithmetic with the Newton solver.
 //!
 //! Before the criterion runs, an interleaved best-of-200 A/B timing of the
 //! same cases is printed (see `interleaved_report`): less sensitive to
@@ -23,7 +24,7 @@ use std::f64::consts::{PI, TAU};
 use std::hint::black_box;
 use std::time::Instant;
 
-use apsidal::kepler::{KeplerSolver, solve_kepler};
+use apsidal::kepler::{EccentricAnomaly, KeplerSolver, solve_kepler};
 use apsidal::model::keplerian::{KeplerianParams, PlanetSignal, Trend, keplerian_model_rv};
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group};
@@ -84,6 +85,21 @@ fn bench_solve(c: &mut Criterion) {
                         }
                     }
                     acc
+                })
+            },
+        );
+        let mut buf = vec![EccentricAnomaly::default(); ms.len()];
+        g.bench_with_input(
+            BenchmarkId::new("markley_slice", format!("e={e}")),
+            &solver,
+            |b, solver| {
+                b.iter(|| {
+                    black_box(solver)
+                        .solve_slice(black_box(&ms), &mut buf)
+                        .unwrap();
+                    buf.iter()
+                        .map(|s| s.e_anom + s.sin_e + s.cos_e)
+                        .sum::<f64>()
                 })
             },
         );
@@ -212,11 +228,21 @@ fn best_ns(items: usize, mut f: impl FnMut() -> f64) -> f64 {
 fn interleaved_report() {
     let ms = m_grid();
     println!("interleaved best-of-200 (ns per solve):");
-    println!("  e      markley  prepared  newton  newton/markley  newton/prepared");
+    println!(
+        "  e      markley  prepared  slice  newton  newton/markley  newton/prepared  newton/slice"
+    );
     for &e in &[0.0, 0.1, 0.5, 0.9, 0.99] {
         let solver = KeplerSolver::new(e).unwrap();
         let (mut a, mut p, mut n) = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
+        let mut sl = f64::INFINITY;
+        let mut buf = vec![EccentricAnomaly::default(); ms.len()];
         for _ in 0..200 {
+            sl = sl.min(best_ns(ms.len(), || {
+                black_box(&solver)
+                    .solve_slice(black_box(&ms), &mut buf)
+                    .unwrap();
+                buf.iter().map(|s| s.e_anom + s.sin_e + s.cos_e).sum()
+            }));
             a = a.min(best_ns(ms.len(), || {
                 ms.iter()
                     .filter_map(|&m| solve_kepler(black_box(m), black_box(e)))
@@ -237,9 +263,10 @@ fn interleaved_report() {
             }));
         }
         println!(
-            "  {e:<5}  {a:7.1}  {p:8.1}  {n:6.1}  {:14.2}  {:15.2}",
+            "  {e:<5}  {a:7.1}  {p:8.1}  {sl:5.1}  {n:6.1}  {:14.2}  {:15.2}  {:12.2}",
             n / a,
-            n / p
+            n / p,
+            n / sl
         );
     }
     let (params, epochs, inst) = rv_setup();

@@ -3,7 +3,7 @@
 //! function solved both ways.
 
 use apsidal::kepler::{
-    Elements, conjunction_from_mean_anomaly, eccentric_from_true, elements_to_state,
+    Elements, KeplerSolver, conjunction_from_mean_anomaly, eccentric_from_true, elements_to_state,
     jacobi_planet_masses, mass_function, mean_anomaly_at, mean_anomaly_at_conjunction,
     mean_anomaly_from_conjunction, mean_anomaly_from_longitude, mean_from_eccentric,
     mean_from_true, mean_longitude, periastron_from_conjunction, planet_mass, semi_amplitude,
@@ -287,4 +287,55 @@ fn jacobi_masses_use_growing_interior_mass() {
     // Unordered periods are refused.
     let bad = [signals[1], signals[0]];
     assert!(jacobi_planet_masses(m_star, &bad, &mut [0.0; 2]).is_none());
+}
+
+#[test]
+fn batched_solver_matches_scalar() {
+    // KeplerSolver::solve_slice (four interleaved lanes, fallback to the
+    // iterating solver) gives the scalar results to rounding, with the same
+    // residual bound, over the dense grid, large |M| and a remainder that
+    // is not a multiple of four.
+    let mut ms: Vec<f64> = (0..=4001).map(|i| -PI + TAU * i as f64 / 4001.0).collect();
+    for j in 0..=120 {
+        let x = 10f64.powf(-12.0 + 12.0 * j as f64 / 120.0);
+        ms.extend([x, -x, PI - x, -PI + x, x + 1e5 * TAU, -x - 3.0 * TAU]);
+    }
+    ms.push(0.0);
+    assert!(ms.len() % 4 != 0);
+    let mut out = vec![Default::default(); ms.len()];
+    let mut worst: f64 = 0.0;
+    for &e in &[0.0, 1e-9, 0.05, 0.3, 0.6, 0.9, 0.99, 0.999, 0.9999] {
+        let solver = KeplerSolver::new(e).unwrap();
+        solver.solve_slice(&ms, &mut out).unwrap();
+        for (&m, b) in ms.iter().zip(&out) {
+            let s = solver.solve(m).unwrap();
+            let de = (b.e_anom - s.e_anom).abs();
+            worst = worst.max(de);
+            assert!(
+                de <= 4.0 * f64::EPSILON * s.e_anom.abs().max(1.0),
+                "e={e} M={m}"
+            );
+            assert!((b.sin_e - s.sin_e).abs() <= 1e-15 && (b.cos_e - s.cos_e).abs() <= 1e-15);
+            let r = (b.e_anom - e * b.sin_e - m).abs();
+            assert!(
+                r <= 1e-14 + 4.0 * f64::EPSILON * m.abs(),
+                "e={e} M={m}: residual {r:e}"
+            );
+        }
+    }
+    println!("batched vs scalar: worst |ΔE| = {worst:e}");
+    // Bad input is refused.
+    assert!(
+        KeplerSolver::new(0.5)
+            .unwrap()
+            .solve4([0.0, f64::NAN, 1.0, 2.0])
+            .is_none()
+    );
+    assert!(
+        KeplerSolver::new(0.5)
+            .unwrap()
+            .solve_slice(&[1.0], &mut [])
+            .is_none()
+    );
+    assert!(KeplerSolver::new(1.0).is_none());
 }

@@ -24,7 +24,7 @@ pub const MAX_CORRECTIONS: usize = 6;
 
 /// Solution of the elliptic Kepler equation with the sine and cosine of the
 /// eccentric anomaly, which callers nearly always need next.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct EccentricAnomaly {
     /// Eccentric anomaly E in radians, in the same 2π-turn as the input M.
     pub e_anom: f64,
@@ -184,6 +184,119 @@ impl KeplerSolver {
             cos_e: c,
             corrections,
         })
+    }
+}
+
+impl KeplerSolver {
+    /// Starter and one fifth-order correction for four values −π < M ≤ π
+    /// (e > 0), written step by step over the four lanes in straight-line
+    /// code with no branch, so that the compiler can pair the lanes into
+    /// SIMD operations and the processor overlaps the four dependency
+    /// chains. Returns per lane (E, sin E, cos E, residual, last
+    /// correction); the caller falls back to [`KeplerSolver::solve`] when
+    /// the residual is above the tolerance, not finite, or the correction
+    /// too large for the short series.
+    #[inline(always)]
+    #[allow(clippy::type_complexity)]
+    fn one_pass4(&self, m: [f64; 4]) -> ([f64; 4], [f64; 4], [f64; 4], [f64; 4], [f64; 4]) {
+        macro_rules! lanes {
+            ($i:ident => $x:expr) => {{
+                let v: [f64; 4] = std::array::from_fn(|$i| $x);
+                v
+            }};
+        }
+        let e = self.e;
+        let alpha = lanes!(i => self.alpha0 + self.alpha1 * (PI - m[i].abs()));
+        let d = lanes!(i => 3.0 * (1.0 - e) + alpha[i] * e);
+        let q = lanes!(i => 2.0 * alpha[i] * d[i] * (1.0 - e) - m[i] * m[i]);
+        let r = lanes!(i => 3.0 * alpha[i] * d[i] * (d[i] - 1.0 + e) * m[i] + m[i] * m[i] * m[i]);
+        let x = lanes!(i => r[i].abs() + (q[i] * q[i] * q[i] + r[i] * r[i]).sqrt());
+        let cr = lanes!(i => trig::cbrt_starter_unchecked(x[i]));
+        let w = lanes!(i => cr[i] * cr[i]);
+        let den = lanes!(i => w[i] * w[i] + w[i] * q[i] + q[i] * q[i]);
+        let ecc = lanes!(i => (2.0 * r[i] * w[i] + m[i] * den[i]) / (d[i] * den[i]));
+        let sc: [(f64, f64); 4] = std::array::from_fn(|i| trig::sin_cos_unchecked(ecc[i]));
+        let s = lanes!(i => sc[i].0);
+        let c = lanes!(i => sc[i].1);
+        let f0 = lanes!(i => ecc[i] - e * s[i] - m[i]);
+        let f1 = lanes!(i => 1.0 - e * c[i]);
+        let f2 = lanes!(i => e * s[i]);
+        let f3 = lanes!(i => e * c[i]);
+        let d3 = lanes!(i => -f0[i] * f1[i] / (f1[i] * f1[i] - 0.5 * f0[i] * f2[i]));
+        let d4 =
+            lanes!(i => -f0[i] / (f1[i] + d3[i] * (0.5 * f2[i] + d3[i] * (1.0 / 6.0) * f3[i])));
+        let d5 = lanes!(i => -f0[i]
+            / (f1[i] + d4[i] * (0.5 * f2[i] + d4[i] * ((1.0 / 6.0) * f3[i] - d4[i] * (1.0 / 24.0) * f2[i]))));
+        let ecc = lanes!(i => ecc[i] + d5[i]);
+        let scd: [(f64, f64); 4] = std::array::from_fn(|i| small_sin_cos(d5[i]));
+        let s_new = lanes!(i => s[i] * scd[i].1 + c[i] * scd[i].0);
+        let c_new = lanes!(i => c[i] * scd[i].1 - s[i] * scd[i].0);
+        let res = lanes!(i => ecc[i] - e * s_new[i] - m[i]);
+        (ecc, s_new, c_new, res, d5)
+    }
+
+    /// Solve Kepler's equation for four mean anomalies at once (radians,
+    /// any finite values); `None` if one is not finite.
+    ///
+    /// The same method and results as [`KeplerSolver::solve`] (to
+    /// rounding), but the four solves run interleaved in straight-line code
+    /// so that the processor overlaps their long dependency chains
+    /// (divisions, square root): about twice the throughput of four calls
+    /// of `solve` (BENCHMARKS.md). A lane whose residual after one
+    /// correction is above [`KEPLER_TOLERANCE`] is redone by `solve`.
+    #[inline]
+    pub fn solve4(&self, ms: [f64; 4]) -> Option<[EccentricAnomaly; 4]> {
+        if !ms.iter().all(|m| m.is_finite()) {
+            return None;
+        }
+        if self.e == 0.0 {
+            return Some([
+                self.solve(ms[0])?,
+                self.solve(ms[1])?,
+                self.solve(ms[2])?,
+                self.solve(ms[3])?,
+            ]);
+        }
+        let red = ms.map(reduce_mean_anomaly);
+        let (ecc, s, c, f0, d5) = self.one_pass4(red);
+        let mut out = [EccentricAnomaly::default(); 4];
+        for i in 0..4 {
+            out[i] = if f0[i].abs() <= KEPLER_TOLERANCE && d5[i].abs() < 0.01 {
+                EccentricAnomaly {
+                    e_anom: ecc[i] + (ms[i] - red[i]),
+                    sin_e: s[i],
+                    cos_e: c[i],
+                    corrections: 1,
+                }
+            } else {
+                self.solve(ms[i])?
+            };
+        }
+        Some(out)
+    }
+
+    /// Solve Kepler's equation for every mean anomaly in `ms` (radians),
+    /// writing into `out` (same length), four at a time with
+    /// [`KeplerSolver::solve4`]; `None` if the lengths differ or an M is not
+    /// finite (then `out` is partly written).
+    pub fn solve_slice(&self, ms: &[f64], out: &mut [EccentricAnomaly]) -> Option<()> {
+        if ms.len() != out.len() {
+            return None;
+        }
+        let mut chunks_m = ms.chunks_exact(4);
+        let mut chunks_o = out.chunks_exact_mut(4);
+        for (cm, co) in (&mut chunks_m).zip(&mut chunks_o) {
+            let res = self.solve4([cm[0], cm[1], cm[2], cm[3]])?;
+            co.copy_from_slice(&res);
+        }
+        for (o, &m) in chunks_o
+            .into_remainder()
+            .iter_mut()
+            .zip(chunks_m.remainder())
+        {
+            *o = self.solve(m)?;
+        }
+        Some(())
     }
 }
 

@@ -69,7 +69,15 @@ pub(crate) fn sin_cos_bounded(x: f64) -> (f64, f64) {
     if x.abs() > 4.0 {
         return x.sin_cos();
     }
-    let k = round_small(x * TWO_OVER_PI);
+    sin_cos_unchecked(x)
+}
+
+/// [`sin_cos_bounded`] without the range check: only for |x| ≤ 4 (larger
+/// |x| gives wrong values, never NaN for finite x).
+#[inline(always)]
+pub(crate) fn sin_cos_unchecked(x: f64) -> (f64, f64) {
+    const MAGIC: f64 = 6_755_399_441_055_744.0; // 1.5 · 2^52
+    let k = (x * TWO_OVER_PI + MAGIC) - MAGIC;
     let r = (x - k * PIO2_HI) - k * PIO2_LO;
     let (s, c) = sin_cos_kernel(r);
     // Quadrant q = k mod 4 (two's complement: −1 → 3, −2 → 2), applied
@@ -98,6 +106,14 @@ pub(crate) fn cbrt_starter(x: f64) -> f64 {
     if !(x > 1e-300 && x < 1e300) {
         return x.cbrt();
     }
+    cbrt_starter_unchecked(x)
+}
+
+/// [`cbrt_starter`] without the range check: only for normal x > 0 (other
+/// input gives a wrong but finite-or-NaN value, which the callers' residual
+/// check catches).
+#[inline(always)]
+pub(crate) fn cbrt_starter_unchecked(x: f64) -> f64 {
     let mut y = f64::from_bits(x.to_bits() / 3 + (715_094_163u64 << 32));
     let y3 = y * y * y;
     y *= (y3 + 2.0 * x) / (2.0 * y3 + x);
