@@ -5,9 +5,10 @@
 //!   of 1024 values of M in (−π, π]; criterion reports time per solve
 //!   (throughput in elements). `markley` is `apsidal::kepler::solve_kepler`
 //!   (Markley 1995 starter + one fifth-order correction, residual ≤ 1e-15);
-//!   `markley_prepared` the same with a `KeplerSolver` built once per e
-//!   ; `markley_slice` `KeplerSolver::solve_slice` (four interleaved
-//!   lanes, as the RV model uses); `newton` is Newton's method from E₀ = M, iterated until
+//!   `markley_prepared` the same with a `KeplerSolver` built once per e;
+//!   `markley_slice` `KeplerSolver::solve_slice` (four interleaved lanes,
+//!   as the RV model uses); `newton` is Newton's method from E₀ = M,
+//!   iterated until
 //!   |E − e sin E − M| ≤ 1e-14 (a looser stop, so the comparison favours
 //!   the baseline), returning E, sin E and cos E like the solver.
 //! - `kepler_rv/<method>`: a two-planet Keplerian RV model at 1000 epochs
