@@ -263,6 +263,21 @@ fn interleaved_report() {
                     .sum()
             }));
         }
+        // Newton from E₀ = M does not always converge for e near 1 (it
+        // cycles for some M near 0 and stops at the iteration cap): count.
+        let stuck = ms
+            .iter()
+            .filter(|&&m| {
+                let (x, s, _) = newton_kepler(m, e);
+                (x - e * s - m).abs() > 1e-14
+            })
+            .count();
+        if stuck > 0 {
+            println!(
+                "  (newton at e = {e}: {stuck} of {} M not converged in 100 steps)",
+                ms.len()
+            );
+        }
         println!(
             "  {e:<5}  {a:7.1}  {p:8.1}  {sl:5.1}  {n:6.1}  {:14.2}  {:15.2}  {:12.2}",
             n / a,
