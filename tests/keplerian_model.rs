@@ -79,7 +79,7 @@ fn matches_scipy_reference() {
             case["name"].as_str().unwrap(),
             epochs.len()
         );
-        // Measured ≈ 8e-14 of ΣK at worst (2026-12-01); required: 1e-11 of
+        // Measured ≈ 1.2e-13 of ΣK at worst (2026-12-01); required: 1e-11 of
         // ΣK, i.e. ≤ 1e-9 m/s for ΣK ≤ 100 m/s.
         assert!(
             rel <= 1e-11,

@@ -200,13 +200,16 @@ pub fn state_to_elements(
 
 /// Period in days of a bound orbit of semi-major axis `a` (au) about a
 /// gravitational parameter `mu` (au³/d²): Kepler's third law P = 2π √(a³/μ).
+/// Plain formula: the caller passes a > 0 and μ > 0 (validated upstream,
+/// e.g. by [`elements_to_state`] or the model's parameter checks).
 #[inline]
 pub fn period_from_a(a: f64, mu: f64) -> f64 {
     TAU * (a * a * a / mu).sqrt()
 }
 
 /// Semi-major axis in au from the period P in days and `mu` (au³/d²):
-/// a = (μ P² / 4π²)^{1/3}.
+/// a = (μ P² / 4π²)^{1/3} (Kepler's third law). Plain formula: the caller
+/// passes P > 0 and μ > 0.
 #[inline]
 pub fn a_from_period(period: f64, mu: f64) -> f64 {
     (mu * period * period / (TAU * TAU)).cbrt()

@@ -16,7 +16,8 @@ use std::f64::consts::TAU;
 use crate::units::{G, m_s_to_au_per_day};
 
 /// Mass function f = P K³ (1 − e²)^{3/2} / (2π G) in M☉, for P in days and
-/// K in m/s.
+/// K in m/s. Plain formula for validated input (P > 0, K ≥ 0, 0 ≤ e < 1),
+/// as [`planet_mass`] checks before calling it.
 #[inline]
 pub fn mass_function(period: f64, k_m_s: f64, e: f64) -> f64 {
     let k = m_s_to_au_per_day(k_m_s);

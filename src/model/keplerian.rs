@@ -18,7 +18,8 @@
 
 use std::f64::consts::TAU;
 
-use crate::kepler::solve_kepler;
+use crate::kepler::trig::round_small;
+use crate::kepler::{EccentricAnomaly, KeplerSolver};
 
 /// One Keplerian signal (one planet) of the star's RV.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -237,8 +238,11 @@ impl KeplerianParams {
 /// over epochs.
 struct Prepared {
     inv_period: f64,
-    m_ref: f64,
+    /// M_ref / 2π, in turns.
+    m_ref_turns: f64,
     e: f64,
+    /// `None` only for an invalid e, which validation excludes.
+    solver: Option<KeplerSolver>,
     k_cos_w: f64,
     k_sqrt_sin_w: f64,
     k_e_cos_w: f64,
@@ -252,33 +256,62 @@ impl Prepared {
         let (sw, cw) = p.omega_star.sin_cos();
         Self {
             inv_period: 1.0 / p.period,
-            m_ref: p.mean_anomaly_ref,
+            m_ref_turns: p.mean_anomaly_ref / TAU,
             e,
+            solver: KeplerSolver::new(e),
             k_cos_w: k * cw,
             k_sqrt_sin_w: k * (1.0 - e * e).sqrt() * sw,
             k_e_cos_w: k * e * cw,
         }
     }
 
-    /// RV of the signal at `dt` = t − t_ref (days). Inputs were validated,
-    /// so the solver cannot fail; the fallback keeps the function total.
-    ///
-    /// With cos ν = (cos E − e)/(1 − e cos E) and
+    /// Mean anomaly at `dt` = t − t_ref (days): the phase in turns, reduced
+    /// to [−½, ½] before scaling by 2π (exact subtraction), so that M ∈
+    /// [−π, π] needs no further range reduction and long spans lose no
+    /// precision in M.
+    #[inline(always)]
+    fn mean_anomaly(&self, dt: f64) -> f64 {
+        let phase = dt * self.inv_period + self.m_ref_turns;
+        TAU * (phase - round_small(phase))
+    }
+
+    /// RV from the solution of Kepler's equation. With
+    /// cos ν = (cos E − e)/(1 − e cos E) and
     /// sin ν = √(1−e²) sin E/(1 − e cos E):
     /// K cos(ν + ω⋆) = K[(cos E − e) cos ω⋆ − √(1−e²) sin E sin ω⋆]/(1 − e cos E).
+    #[inline(always)]
+    fn rv_from(&self, s: &EccentricAnomaly) -> f64 {
+        let den = 1.0 - self.e * s.cos_e;
+        ((s.cos_e - self.e) * self.k_cos_w - s.sin_e * self.k_sqrt_sin_w) / den + self.k_e_cos_w
+    }
+
+    /// RV of the signal at `dt` = t − t_ref (days). Inputs were validated,
+    /// so the solver cannot fail; the fallback keeps the function total.
     #[inline]
     fn rv(&self, dt: f64) -> f64 {
-        // Phase reduced to (−½, ½] turns before scaling by 2π: exact
-        // subtraction, so long spans lose no precision in M.
-        let phase = dt * self.inv_period;
-        let m = self.m_ref + TAU * (phase - phase.round());
-        match solve_kepler(m, self.e) {
-            Some(s) => {
-                let den = 1.0 - self.e * s.cos_e;
-                ((s.cos_e - self.e) * self.k_cos_w - s.sin_e * self.k_sqrt_sin_w) / den
-                    + self.k_e_cos_w
-            }
+        match self.solver.and_then(|k| k.solve(self.mean_anomaly(dt))) {
+            Some(s) => self.rv_from(&s),
             None => 0.0,
+        }
+    }
+
+    /// Add the signal at every epoch to `out`, four epochs at a time
+    /// ([`KeplerSolver::solve4`]).
+    #[inline]
+    fn add_to(&self, t_ref: f64, epochs: &[f64], out: &mut [f64]) {
+        let Some(solver) = self.solver else { return };
+        let mut ce = epochs.chunks_exact(4);
+        let mut co = out.chunks_exact_mut(4);
+        for (t, o) in (&mut ce).zip(&mut co) {
+            let m = [0, 1, 2, 3].map(|i| self.mean_anomaly(t[i] - t_ref));
+            if let Some(sol) = solver.solve4(m) {
+                for i in 0..4 {
+                    o[i] += self.rv_from(&sol[i]);
+                }
+            }
+        }
+        for (o, &t) in co.into_remainder().iter_mut().zip(ce.remainder()) {
+            *o += self.rv(t - t_ref);
         }
     }
 }
@@ -307,10 +340,7 @@ pub fn add_planet_signal(
     if let Some(index) = epochs.iter().position(|t| !t.is_finite()) {
         return Err(KeplerianError::Epoch { index });
     }
-    let prep = Prepared::new(planet);
-    for (o, &t) in out.iter_mut().zip(epochs) {
-        *o += prep.rv(t - t_ref);
-    }
+    Prepared::new(planet).add_to(t_ref, epochs, out);
     Ok(())
 }
 
@@ -367,10 +397,7 @@ pub fn keplerian_model_rv(
         *o = gamma + dt * (c1 + c2 * dt);
     }
     for planet in &params.planets {
-        let prep = Prepared::new(planet);
-        for (o, &t) in out.iter_mut().zip(epochs) {
-            *o += prep.rv(t - t_ref);
-        }
+        Prepared::new(planet).add_to(t_ref, epochs, out);
     }
     Ok(())
 }
