@@ -62,30 +62,36 @@ pub fn stumpff(x: f64) -> Stumpff {
         xr *= 0.25;
         n += 1;
     }
-    // c₂ = Σ (−x)ᵏ/(2k+2)!, c₃ = Σ (−x)ᵏ/(2k+3)!, nested (Horner) to k = 7:
-    // the first omitted term is below 0.1⁸/18! ≈ 2e-24.
-    let c2 = (1.0
-        - xr / 12.0
-            * (1.0
-                - xr / 30.0
-                    * (1.0
-                        - xr / 56.0
-                            * (1.0
-                                - xr / 90.0
-                                    * (1.0
-                                        - xr / 132.0 * (1.0 - xr / 182.0 * (1.0 - xr / 240.0)))))))
-        / 2.0;
-    let c3 = (1.0
-        - xr / 20.0
-            * (1.0
-                - xr / 42.0
-                    * (1.0
-                        - xr / 72.0
-                            * (1.0
-                                - xr / 110.0
-                                    * (1.0
-                                        - xr / 156.0 * (1.0 - xr / 210.0 * (1.0 - xr / 272.0)))))))
-        / 6.0;
+    // c₂ = Σ (−x)ᵏ/(2k+2)!, c₃ = Σ (−x)ᵏ/(2k+3)!, Horner to k = 7 with
+    // precomputed coefficients (multiplications only: the solver's
+    // iterations depend on each other, so latency matters): the first
+    // omitted term is below 0.1⁸/18! ≈ 2e-24.
+    const C2: [f64; 8] = [
+        1.0 / 2.0,
+        -1.0 / 24.0,
+        1.0 / 720.0,
+        -1.0 / 40_320.0,
+        1.0 / 3_628_800.0,
+        -1.0 / 479_001_600.0,
+        1.0 / 87_178_291_200.0,
+        -1.0 / 20_922_789_888_000.0,
+    ];
+    const C3: [f64; 8] = [
+        1.0 / 6.0,
+        -1.0 / 120.0,
+        1.0 / 5040.0,
+        -1.0 / 362_880.0,
+        1.0 / 39_916_800.0,
+        -1.0 / 6_227_020_800.0,
+        1.0 / 1_307_674_368_000.0,
+        -1.0 / 355_687_428_096_000.0,
+    ];
+    let mut c2 = C2[7];
+    let mut c3 = C3[7];
+    for k in (0..7).rev() {
+        c2 = c2 * xr + C2[k];
+        c3 = c3 * xr + C3[k];
+    }
     let mut c = Stumpff {
         c0: 1.0 - xr * c2,
         c1: 1.0 - xr * c3,
@@ -140,6 +146,8 @@ pub struct FandG {
     /// Universal anomaly s solving the universal Kepler equation (the
     /// elliptic turns removed from Δt first), in d·au⁻¹ units as in Danby.
     pub s: f64,
+    /// Iterations of the universal Kepler equation used.
+    pub iterations: usize,
 }
 
 /// Largest number of iterations of the universal Kepler equation.
@@ -180,6 +188,7 @@ pub fn f_and_g(
             fdot: 0.0,
             gdot: 1.0,
             s: 0.0,
+            iterations: 0,
         });
     }
     let eta0 = pos.dot(vel);
@@ -211,10 +220,25 @@ pub fn f_and_g(
     let mut s = match guess {
         Some(g) if g.is_finite() && g * dt > 0.0 && g > lo && g < hi => g,
         _ => {
-            let s0 = dt / r0;
+            // Three terms of s(t) = ∫ dt / r about t₀: ds/dt = 1/r,
+            // d²s/dt² = −ṙ/r², d³s/dt³ = (3ṙ² − v²)/r³ + μ/r⁴ (from
+            // r̈ = (v² − ṙ²)/r − μ/r²), used when they form a series.
+            let inv_r = 1.0 / r0;
+            let rdot = eta0 * inv_r;
+            let s1 = dt * inv_r;
+            let t2 = -0.5 * rdot * s1 * s1;
+            let t3 = ((3.0 * rdot * rdot - v2) + mu * inv_r) * s1 * s1 * s1 / 6.0;
+            let s0 = if t2.abs() + t3.abs() < 0.5 * s1.abs() {
+                s1 + t2 + t3
+            } else {
+                s1
+            };
             if s0 > lo && s0 < hi {
                 s0
+            } else if s1 > lo && s1 < hi {
+                s1
             } else {
+                // Only bound orbits get here: both bounds are finite.
                 0.5 * (lo + hi)
             }
         }
@@ -234,7 +258,12 @@ pub fn f_and_g(
             // Overflow far past the root (hyperbolic): shrink the bracket.
             hi = if s > 0.0 { s } else { hi };
             lo = if s < 0.0 { s } else { lo };
-            s = 0.5 * (lo + hi);
+            let shrunk = 0.25 * s;
+            s = if shrunk > lo && shrunk < hi {
+                shrunk
+            } else {
+                0.5 * (lo + hi)
+            };
             continue;
         }
         if f0 < 0.0 {
@@ -242,34 +271,41 @@ pub fn f_and_g(
         } else if f0 > 0.0 {
             hi = hi.min(s);
         }
-        // Laguerre–Conway step.
-        let disc = ((LAGUERRE_N - 1.0) * (LAGUERRE_N - 1.0) * f1 * f1
-            - LAGUERRE_N * (LAGUERRE_N - 1.0) * f0 * f2)
-            .abs()
-            .sqrt();
-        let den = f1 + f1.signum() * disc;
-        let delta = if den != 0.0 {
-            -LAGUERRE_N * f0 / den
+        // Laguerre–Conway step far from the root; Halley's step (also
+        // cubically convergent, no square root) once the Newton step is
+        // below 1 % of s.
+        let newton = -f0 / f1;
+        let delta = if newton.abs() < 1e-2 * s.abs() {
+            -f0 * f1 / (f1 * f1 - 0.5 * f0 * f2)
         } else {
-            f64::NAN
-        };
-        let converged = f0 == 0.0
-            || (delta.is_finite() && delta.abs() <= 2.0 * f64::EPSILON * s.abs())
-            || (hi - lo) <= 2.0 * f64::EPSILON * s.abs();
-        if converged {
-            let r = f1;
-            if !(r > 0.0 && r.is_finite()) {
-                return Err(DriftError::NoConvergence {
-                    iterations: iteration + 1,
-                });
+            let disc = ((LAGUERRE_N - 1.0) * (LAGUERRE_N - 1.0) * f1 * f1
+                - LAGUERRE_N * (LAGUERRE_N - 1.0) * f0 * f2)
+                .abs()
+                .sqrt();
+            let den = f1 + f1.signum() * disc;
+            if den != 0.0 {
+                -LAGUERRE_N * f0 / den
+            } else {
+                f64::NAN
             }
-            return Ok(FandG {
-                f: 1.0 - mu * g2 / r0,
-                g: r0 * g1 + eta0 * g2,
-                fdot: -mu * g1 / (r0 * r),
-                gdot: 1.0 - mu * g2 / r,
-                s,
-            });
+        };
+        // Finish when the last correction is small: Laguerre's method
+        // converges at least cubically near a simple root, so after a
+        // correction |δ| ≤ 1e-6 |s| the point s + δ is the root to rounding.
+        // The G-functions are carried to it by their Taylor series to δ³
+        // (dG_k/ds = G_{k−1}, dG₀/ds = −βG₁; remainder ~ (δ√β)⁴ < 1e-20),
+        // saving a last Stumpff evaluation. (A test on |δ| ≈ ε|s| would
+        // chase rounding noise.)
+        let small = delta.is_finite() && delta.abs() <= 1e-6 * s.abs();
+        if small && s + delta > lo && s + delta < hi {
+            let (d, d2, d3) = (delta, 0.5 * delta * delta, delta * delta * delta / 6.0);
+            let g0n = g0 - beta * (d * g1 + d2 * g0 - d3 * beta * g1);
+            let g1n = g1 + d * g0 - beta * (d2 * g1 + d3 * g0);
+            let g2n = g2 + d * g1 + d2 * g0 - d3 * beta * g1;
+            return fg_from(s + delta, g0n, g1n, g2n, r0, eta0, mu, iteration + 1);
+        }
+        if f0 == 0.0 || (hi - lo) <= 2.0 * f64::EPSILON * s.abs() {
+            return fg_from(s, g0, g1, g2, r0, eta0, mu, iteration + 1);
         }
         let next = s + delta;
         s = if delta.is_finite() && next > lo && next < hi {
@@ -286,6 +322,34 @@ pub fn f_and_g(
     }
     Err(DriftError::NoConvergence {
         iterations: MAX_DRIFT_ITERATIONS,
+    })
+}
+
+/// f and g from the converged universal anomaly `s` and its G₀, G₁, G₂
+/// (Danby 1988, §6.9).
+#[allow(clippy::too_many_arguments)]
+#[inline]
+fn fg_from(
+    s: f64,
+    g0: f64,
+    g1: f64,
+    g2: f64,
+    r0: f64,
+    eta0: f64,
+    mu: f64,
+    iterations: usize,
+) -> Result<FandG, DriftError> {
+    let r = r0 * g0 + eta0 * g1 + mu * g2;
+    if !(r > 0.0 && r.is_finite() && g1.is_finite() && g2.is_finite()) {
+        return Err(DriftError::NoConvergence { iterations });
+    }
+    Ok(FandG {
+        f: 1.0 - mu * g2 / r0,
+        g: r0 * g1 + eta0 * g2,
+        fdot: -mu * g1 / (r0 * r),
+        gdot: 1.0 - mu * g2 / r,
+        s,
+        iterations,
     })
 }
 
@@ -387,6 +451,20 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn few_iterations() {
+        // A P/20 step of a mildly eccentric orbit: a handful of iterations
+        // from the crude start, one or two from the previous step's s.
+        let (r, v) = (
+            Vector3::new(0.09, 0.02, 0.0),
+            Vector3::new(-0.004, 0.017, 0.001),
+        );
+        let fg = f_and_g(&r, &v, 2.96e-4, 0.5, None).unwrap();
+        assert!(fg.iterations <= 5, "{}", fg.iterations);
+        let again = f_and_g(&r, &v, 2.96e-4, 0.5, Some(fg.s * (1.0 + 1e-6))).unwrap();
+        assert!(again.iterations <= 2, "{}", again.iterations);
     }
 
     #[test]

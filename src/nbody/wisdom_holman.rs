@@ -142,6 +142,10 @@ struct Bodies {
     masses: Vec<f64>,
     radii: Vec<f64>,
     interior: Vec<f64>,
+    /// 1 / M_k.
+    inv_interior: Vec<f64>,
+    /// m_k / M_k.
+    ratio: Vec<f64>,
     /// μ_k = G M_k (entry 0 unused).
     mu: Vec<f64>,
     /// G m_k.
@@ -171,8 +175,6 @@ pub struct WisdomHolman {
     /// Scratch copy for outputs.
     sr: Vec<Vector3<f64>>,
     sv: Vec<Vector3<f64>>,
-    /// Universal anomaly of the last full-step drift of each planet.
-    guess: Vec<f64>,
     /// Event conditions currently on: collisions (n), ejections (n), pairs (n×n).
     active: Vec<bool>,
     events: Vec<Event>,
@@ -198,6 +200,8 @@ impl WisdomHolman {
                 masses: vec![0.0; n],
                 radii: vec![0.0; n],
                 interior: vec![0.0; n],
+                inv_interior: vec![0.0; n],
+                ratio: vec![0.0; n],
                 mu: vec![0.0; n],
                 gm: vec![0.0; n],
                 hill: vec![0.0; n * n],
@@ -212,7 +216,6 @@ impl WisdomHolman {
             jv: z.clone(),
             sr: z.clone(),
             sv: z,
-            guess: vec![f64::NAN; n],
             active: vec![false; 2 * n + n * n],
             events: Vec::with_capacity(16),
             settings: settings.events,
@@ -273,9 +276,13 @@ impl WisdomHolman {
         jacobi::interior_masses(&b.masses, &mut b.interior);
         b.mu.resize(n, 0.0);
         b.gm.resize(n, 0.0);
+        b.inv_interior.resize(n, 0.0);
+        b.ratio.resize(n, 0.0);
         for k in 0..n {
             b.mu[k] = G * b.interior[k];
             b.gm[k] = G * b.masses[k];
+            b.inv_interior[k] = 1.0 / b.interior[k];
+            b.ratio[k] = b.masses[k] / b.interior[k];
         }
         b.hill.resize(n * n, 0.0);
         for i in 1..n {
@@ -300,8 +307,6 @@ impl WisdomHolman {
             }
             None => default_step(&self.b, &self.jr, &self.jv),
         };
-        self.guess.clear();
-        self.guess.resize(n, f64::NAN);
         self.active.clear();
         self.active.resize(2 * n + n * n, false);
         self.events.clear();
@@ -364,28 +369,28 @@ impl WisdomHolman {
         let drift_err = |(body, source)| NbodyError::Drift { t, body, source };
         let (b, w, sr, sv) = (&self.b, &mut self.w, &mut self.sr, &mut self.sv);
         if self.corrector == Corrector::Off {
-            drift_all(b, sr, sv, self.lag + 0.5 * tau, None).map_err(drift_err)?;
+            drift_all(b, sr, sv, self.lag + 0.5 * tau).map_err(drift_err)?;
             if tau != 0.0 {
                 kick(b, w, sr, sv, tau);
-                drift_all(b, sr, sv, 0.5 * tau, None).map_err(drift_err)?;
+                drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
             }
         } else {
             let c = self.corrector;
-            drift_all(b, sr, sv, self.lag, None).map_err(drift_err)?;
+            drift_all(b, sr, sv, self.lag).map_err(drift_err)?;
             apply_corrector(b, w, sr, sv, c, self.step, false).map_err(drift_err)?;
             if tau != 0.0 {
                 apply_corrector(b, w, sr, sv, c, tau, true).map_err(drift_err)?;
-                drift_all(b, sr, sv, 0.5 * tau, None).map_err(drift_err)?;
+                drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
                 kick(b, w, sr, sv, tau);
-                drift_all(b, sr, sv, 0.5 * tau, None).map_err(drift_err)?;
+                drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
                 apply_corrector(b, w, sr, sv, c, tau, false).map_err(drift_err)?;
             }
         }
         if !all_finite(&self.sr) || !all_finite(&self.sv) {
             return Err(NbodyError::NonFinite { t });
         }
-        jacobi::jacobi_to_inertial(&self.b.masses, &self.b.interior, &self.sr, &mut out.pos);
-        jacobi::jacobi_to_inertial(&self.b.masses, &self.b.interior, &self.sv, &mut out.vel);
+        jacobi::jacobi_to_inertial_with(&self.b.ratio, &self.sr, &mut out.pos);
+        jacobi::jacobi_to_inertial_with(&self.b.ratio, &self.sv, &mut out.vel);
         out.t = t;
         Ok(())
     }
@@ -394,10 +399,9 @@ impl WisdomHolman {
     fn synchronise(&mut self) -> Result<(), NbodyError> {
         if self.lag != 0.0 {
             let t = self.time();
-            drift_all(&self.b, &mut self.jr, &mut self.jv, self.lag, None)
+            drift_all(&self.b, &mut self.jr, &mut self.jv, self.lag)
                 .map_err(|(body, source)| NbodyError::Drift { t, body, source })?;
             self.lag = 0.0;
-            self.guess.iter_mut().for_each(|g| *g = f64::NAN);
         }
         Ok(())
     }
@@ -406,19 +410,13 @@ impl WisdomHolman {
     fn one_step(&mut self, h: f64) -> Result<(), NbodyError> {
         let t_mid = self.time() + 0.5 * h;
         let drift = self.lag + 0.5 * h;
-        let full = drift == h;
-        let guess = if full {
-            Some(&mut self.guess[..])
-        } else {
-            None
-        };
-        drift_all(&self.b, &mut self.jr, &mut self.jv, drift, guess).map_err(
-            |(body, source)| NbodyError::Drift {
+        drift_all(&self.b, &mut self.jr, &mut self.jv, drift).map_err(|(body, source)| {
+            NbodyError::Drift {
                 t: t_mid,
                 body,
                 source,
-            },
-        )?;
+            }
+        })?;
         kick(&self.b, &mut self.w, &self.jr, &mut self.jv, h);
         self.lag = 0.5 * h;
         self.steps += if h > 0.0 { 1 } else { -1 };
@@ -534,14 +532,14 @@ fn default_step(b: &Bodies, jr: &[Vector3<f64>], jv: &[Vector3<f64>]) -> f64 {
 
 /// Kepler drift of every planet by `dt` and of the centre of mass. On
 /// failure returns the planet index and the solver's error (state of that
-/// planet untouched).
+/// planet untouched). No starting guess is passed: the solver's series
+/// start is better than the previous step's anomaly (measured).
 #[inline]
 fn drift_all(
     b: &Bodies,
     jr: &mut [Vector3<f64>],
     jv: &mut [Vector3<f64>],
     dt: f64,
-    mut guess: Option<&mut [f64]>,
 ) -> Result<(), (usize, super::universal::DriftError)> {
     if dt == 0.0 {
         return Ok(());
@@ -549,11 +547,7 @@ fn drift_all(
     let com_v = jv[0];
     jr[0] += com_v * dt;
     for k in 1..jr.len() {
-        let g = guess.as_ref().map(|g| g[k]).filter(|g| g.is_finite());
-        let s = kepler_drift(&mut jr[k], &mut jv[k], b.mu[k], dt, g).map_err(|e| (k, e))?;
-        if let Some(gs) = guess.as_mut() {
-            gs[k] = s;
-        }
+        kepler_drift(&mut jr[k], &mut jv[k], b.mu[k], dt, None).map_err(|e| (k, e))?;
     }
     Ok(())
 }
@@ -562,7 +556,7 @@ fn drift_all(
 #[inline]
 fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], h: f64) {
     let n = jr.len();
-    jacobi::jacobi_to_inertial(&b.masses, &b.interior, jr, &mut w.pos);
+    jacobi::jacobi_to_inertial_with(&b.ratio, jr, &mut w.pos);
     let pos = &w.pos;
     let acc = &mut w.acc;
     for a in acc.iter_mut() {
@@ -588,7 +582,7 @@ fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], 
             acc[0] += f * (b.masses[k] / m0);
         }
     }
-    jacobi::inertial_to_jacobi(&b.masses, &b.interior, acc, &mut w.jacc);
+    jacobi::inertial_to_jacobi_with(&b.masses, &b.inv_interior, acc, &mut w.jacc);
     for k in 1..n {
         let r = jr[k];
         let r2 = r.norm_squared();
@@ -614,11 +608,11 @@ fn apply_corrector(
     let mut kernel = |i: usize, a_sign: f64| -> Result<(), (usize, super::universal::DriftError)> {
         let a = a_sign * 0.5 * (i as f64 + 1.0) * h;
         let bk = SIGN * kicks[i] * h;
-        drift_all(b, jr, jv, a, None)?;
+        drift_all(b, jr, jv, a)?;
         kick(b, w, jr, jv, bk);
-        drift_all(b, jr, jv, -2.0 * a, None)?;
+        drift_all(b, jr, jv, -2.0 * a)?;
         kick(b, w, jr, jv, -bk);
-        drift_all(b, jr, jv, a, None)
+        drift_all(b, jr, jv, a)
     };
     if inverse {
         // (Z_1 Z_2 … Z_n)⁻¹ = Z_n⁻¹ … Z_1⁻¹ with Z(a, b)⁻¹ = Z(−a, b).
