@@ -527,3 +527,53 @@ fn mercury_perihelion_advance_from_post_newtonian_term() {
     assert!(newtonian.abs() < 0.01);
     assert!((gr - 42.98).abs() < 0.01 * 42.98);
 }
+
+#[test]
+fn snapshot_views_and_refusals() {
+    // The boundary snapshot equals an output requested at the boundary time.
+    let sys = two_giants();
+    let mut wh = WisdomHolman::new(&sys, settings(5.0)).unwrap();
+    let mut out = Snapshot::zeros(3, 0.0);
+    wh.advance_to(52.0, &mut out).unwrap();
+    assert_eq!(wh.time(), 50.0);
+    let snap = wh.snapshot();
+    wh.advance_to(50.0, &mut out).unwrap();
+    assert_eq!(snap, out);
+    // Two-body limit: Jacobi and astrocentric elements of planet 1 coincide
+    // (both about μ = G(m_0 + m_1), r'_1 = r_1 − r_0; DESIGN §3).
+    let ej = sys
+        .osculating_elements(&sys.state, 1, Primary::Jacobi)
+        .unwrap();
+    let es = sys
+        .osculating_elements(&sys.state, 1, Primary::Star)
+        .unwrap();
+    assert!((ej.a - es.a).abs() < 1e-14 && (ej.e - es.e).abs() < 1e-12);
+    // Planet 2's astrocentric orbit differs from its Jacobi one by O(m_1/M).
+    let ej = sys
+        .osculating_elements(&sys.state, 2, Primary::Jacobi)
+        .unwrap();
+    let es = sys
+        .osculating_elements(&sys.state, 2, Primary::Star)
+        .unwrap();
+    assert!((ej.a - es.a).abs() / ej.a < 1e-2 && ej.a != es.a);
+    // Bad input is refused, never NaN.
+    let mut bad = Snapshot::zeros(2, 0.0);
+    bad.pos[1].x = f64::NAN;
+    assert!(matches!(
+        System::new(vec![1.0, 1e-3], vec![0.0; 2], bad),
+        Err(NbodyError::NonFinite { .. })
+    ));
+    assert!(wh.advance_to(f64::INFINITY, &mut out).is_err());
+    let mut short = Snapshot::zeros(2, 0.0);
+    assert!(wh.advance_to(60.0, &mut short).is_err());
+    assert!(
+        WisdomHolman::new(
+            &sys,
+            WhSettings {
+                step: Some(0.0),
+                ..WhSettings::default()
+            }
+        )
+        .is_err()
+    );
+}
