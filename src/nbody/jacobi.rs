@@ -54,7 +54,7 @@ pub fn inertial_to_jacobi(
 
 /// Jacobi vectors `jac` → barycentric (inertial) vectors `x`; the inverse of
 /// [`inertial_to_jacobi`]. Uses R_{k−1} = R_k − (m_k/M_k) r'_k from the
-/// outside in, so x[0] = jac[0] − Σ_k (m_k/M_k) jac[k].
+/// outside in, so `x[0] = jac[0] − Σ_k (m_k/M_k) jac[k]`.
 #[inline]
 pub fn jacobi_to_inertial(
     masses: &[f64],
@@ -108,7 +108,7 @@ pub fn jacobi_to_inertial_with(ratio: &[f64], jac: &[Vector3<f64>], x: &mut [Vec
 }
 
 /// Barycentric vectors `x` → astrocentric (relative to the star, body 0)
-/// vectors `out`: out[k] = x[k] − x[0] (out[0] = 0).
+/// vectors `out`: `out[k] = x[k] − x[0]` (`out[0]` = 0).
 #[inline]
 pub fn inertial_to_astrocentric(x: &[Vector3<f64>], out: &mut [Vector3<f64>]) {
     debug_assert_eq!(x.len(), out.len());
@@ -118,7 +118,7 @@ pub fn inertial_to_astrocentric(x: &[Vector3<f64>], out: &mut [Vector3<f64>]) {
     }
 }
 
-/// Astrocentric vectors `rel` (rel[0] ignored) → barycentric vectors `x`,
+/// Astrocentric vectors `rel` (`rel[0]` ignored) → barycentric vectors `x`,
 /// for positions or velocities: the star is at
 /// x_0 = −Σ m_k rel_k / Σ m_j (the barycentre at the origin, at rest for
 /// velocities), x_k = x_0 + rel_k.

@@ -34,7 +34,7 @@
 //! **Correctors.** The DKD map is the exact flow of
 //! K = A + B + [(x / sinh x) − 1] B + O(B²), x = (h/2) ad_A (first-order
 //! Baker–Campbell–Hausdorff with Lie operators; this gives
-//! −(h²/24)[A,[A,B]] + (7h⁴/5760) ad_A⁴B − …, the O(ε h²) error of
+//! −(h²/24) ad_A² B + (7h⁴/5760) ad_A⁴ B − …, the O(ε h²) error of
 //! Wisdom, Holman & Touma 1996). A conjugating map e^C with
 //! C = h [−u/24 + 7u³/5760 − 31u⁵/967680 + …] B, u = h ad_A, removes all
 //! these O(ε) terms. We build C, as WHT96 do, from kernels
