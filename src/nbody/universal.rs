@@ -200,21 +200,21 @@ pub fn f_and_g(
     }
     let zeta0 = mu - beta * r0;
     let mut dt = dt;
-    // Elliptic orbits: drop whole turns, and bound s by one turn.
-    let mut s_turn = f64::INFINITY;
-    if beta > 0.0 {
-        // |dt| > P ⟺ dt² β³ > (2πμ)², tested without a division.
-        if dt * dt * beta * beta * beta > (TAU * mu) * (TAU * mu) {
-            let period = TAU * mu / (beta * beta.sqrt());
-            dt -= period * (dt / period).trunc();
+    // Elliptic orbits: drop whole turns so that |dt| ≤ P/2 (the state is
+    // periodic). |dt| > P/2 ⟺ 4 dt² β³ > (2πμ)², tested without a division.
+    if beta > 0.0 && 4.0 * dt * dt * beta * beta * beta > (TAU * mu) * (TAU * mu) {
+        let period = TAU * mu / (beta * beta.sqrt());
+        dt -= period * (dt / period).round();
+        if dt == 0.0 {
+            return fg_from(0.0, 1.0, 0.0, 0.0, r0, eta0, mu, 0);
         }
-        s_turn = TAU / beta.sqrt();
     }
-    // Bracket [lo, hi] of the root: f(0) = −dt.
+    // Bracket [lo, hi] of the root, which is unique since f′ = r > 0:
+    // f(0) = −dt.
     let (mut lo, mut hi) = if dt > 0.0 {
-        (0.0, s_turn)
+        (0.0, f64::INFINITY)
     } else {
-        (-s_turn, 0.0)
+        (f64::NEG_INFINITY, 0.0)
     };
     let mut s = match guess {
         Some(g) if g.is_finite() && g * dt > 0.0 && g > lo && g < hi => g,
@@ -237,8 +237,9 @@ pub fn f_and_g(
             } else if s1 > lo && s1 < hi {
                 s1
             } else {
-                // Only bound orbits get here: both bounds are finite.
-                0.5 * (lo + hi)
+                // Not reached: s1 has the sign of dt and the bracket is a
+                // half line; kept as a safe fallback.
+                dt.signum() * r0.recip()
             }
         }
     };

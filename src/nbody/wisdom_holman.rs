@@ -72,6 +72,8 @@
 //! (barycentric distance above the limit, or a positive Jacobi two-body
 //! energy ½v'² − μ_k/r'). Each event is recorded once when its condition
 //! starts. A non-finite state stops the run with [`NbodyError::NonFinite`].
+//! [`EventSettings::min_step`] does not apply (the step is fixed). Events
+//! are looked for on the main step sequence only, not in output copies.
 //!
 //! No heap allocation happens in a step or an output: every buffer is made
 //! at construction.
