@@ -577,3 +577,85 @@ fn snapshot_views_and_refusals() {
         .is_err()
     );
 }
+
+mod round_trips {
+    //! Property tests (DESIGN §8): Jacobi ↔ barycentric and elements ↔
+    //! state round trips over random systems.
+    use super::*;
+    use apsidal::nbody::jacobi::{inertial_to_jacobi, interior_masses, jacobi_to_inertial};
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        #[test]
+        fn jacobi_round_trip(
+            ms in proptest::collection::vec(0.0f64..0.01, 1..8),
+            xs in proptest::collection::vec(-10.0f64..10.0, 24),
+        ) {
+            let mut masses = vec![1.0];
+            masses.extend(&ms);
+            let n = masses.len();
+            let x: Vec<Vector3<f64>> =
+                (0..n).map(|i| Vector3::new(xs[3 * i], xs[3 * i + 1], xs[3 * i + 2])).collect();
+            let mut mi = vec![0.0; n];
+            interior_masses(&masses, &mut mi);
+            let mut j = vec![Vector3::zeros(); n];
+            let mut back = vec![Vector3::zeros(); n];
+            inertial_to_jacobi(&masses, &mi, &x, &mut j);
+            jacobi_to_inertial(&masses, &mi, &j, &mut back);
+            for k in 0..n {
+                prop_assert!((back[k] - x[k]).norm() <= 1e-13 * (1.0 + x[k].norm()));
+            }
+        }
+
+        #[test]
+        fn elements_round_trip(
+            m1 in 0.0f64..0.01,
+            m2 in 0.0f64..0.01,
+            p1 in 1.0f64..100.0,
+            ratio in 1.3f64..5.0,
+            e1 in 0.0f64..0.9,
+            e2 in 0.0f64..0.9,
+            w in 0.0f64..6.28,
+            ma in 0.0f64..6.28,
+            i1 in 0.1f64..3.0,
+            i2 in 0.1f64..3.0,
+            dn in -3.0f64..3.0,
+        ) {
+            let ps = [
+                JacobiPlanet {
+                    mass: m1,
+                    radius: 0.0,
+                    size: OrbitSize::Period(p1),
+                    e: e1,
+                    omega_star: w,
+                    phase: OrbitPhase::MeanAnomaly(ma),
+                    inc: i1,
+                    node: 0.0,
+                },
+                JacobiPlanet {
+                    mass: m2,
+                    radius: 0.0,
+                    size: OrbitSize::Period(p1 * ratio),
+                    e: e2,
+                    omega_star: 6.28 - w,
+                    phase: OrbitPhase::MeanLongitude(ma + 1.0),
+                    inc: i2,
+                    node: dn,
+                },
+            ];
+            let sys = System::from_jacobi_elements(1.0, 0.0, &ps, 0.0).unwrap();
+            let mut interior = 1.0;
+            for (k, p) in ps.iter().enumerate() {
+                interior += p.mass;
+                let el = sys.osculating_elements(&sys.state, k + 1, Primary::Jacobi).unwrap();
+                let OrbitSize::Period(per) = p.size else { unreachable!() };
+                let per_back = TAU * (el.a.powi(3) / (G * interior)).sqrt();
+                prop_assert!((per_back - per).abs() <= 1e-11 * per);
+                prop_assert!((el.e - p.e).abs() <= 1e-11);
+                prop_assert!((el.inc - p.inc).abs() <= 1e-11);
+            }
+        }
+    }
+}
