@@ -610,6 +610,44 @@ mod round_trips {
         }
 
         #[test]
+        fn drift_conserves_two_body_invariants(
+            r in proptest::collection::vec(-5.0f64..5.0, 3),
+            v in proptest::collection::vec(-0.05f64..0.05, 3),
+            dt in -1e5f64..1e5,
+            m in 0.1f64..3.0,
+        ) {
+            // Conservation laws of the two-body problem: specific energy
+            // ½v² − μ/r and angular momentum r × v; never NaN.
+            let mu = G * m;
+            let (r0, v0) = (Vector3::new(r[0], r[1], r[2]), Vector3::new(v[0], v[1], v[2]));
+            // Nearly radial orbits (r, v within 3°) are excluded: their
+            // pericentre q → 0, and a drift through it is ill-conditioned
+            // without bound (the invariants then test the problem, not the
+            // solver).
+            prop_assume!(r0.norm() > 1e-3 && r0.cross(&v0).norm() > 0.05 * r0.norm() * v0.norm());
+            let (mut r1, mut v1) = (r0, v0);
+            match kepler_drift(&mut r1, &mut v1, mu, dt, None) {
+                Ok(_) => {
+                    prop_assert!(r1.iter().chain(v1.iter()).all(|c| c.is_finite()));
+                    let e0 = 0.5 * v0.norm_squared() - mu / r0.norm();
+                    let e1 = 0.5 * v1.norm_squared() - mu / r1.norm();
+                    let scale = 0.5 * v0.norm_squared() + mu / r0.norm();
+                    prop_assert!((e1 - e0).abs() <= 1e-9 * scale, "energy {e0} → {e1}");
+                    // Plus a floor of 1e-12 |r₁||v₁| (≈ 4500 ulp): for nearly
+                    // radial hyperbolic drifts of 10⁵ d, |r₁||v₁| / |h| reaches
+                    // 10⁴ and g = r₀G₁ + η₀G₂ cancels by 20×, so the rounding
+                    // of a state accurate to 1e-14 alone moves r × v by
+                    // several 1e-9 |h| (found by this test; analysed with the
+                    // f ġ − ḟ g = 1 identity).
+                    let (h0, h1) = (r0.cross(&v0), r1.cross(&v1));
+                    let floor = 1e-12 * r1.norm() * v1.norm();
+                    prop_assert!((h1 - h0).norm() <= 1e-9 * h0.norm() + floor);
+                }
+                Err(e) => prop_assert!(false, "drift failed: {e}"),
+            }
+        }
+
+        #[test]
         fn elements_round_trip(
             m1 in 0.0f64..0.01,
             m2 in 0.0f64..0.01,
@@ -657,5 +695,32 @@ mod round_trips {
                 prop_assert!((el.inc - p.inc).abs() <= 1e-11);
             }
         }
+    }
+}
+
+#[test]
+fn universal_drift_parabolic_matches_barker() {
+    // Parabolic orbit (e = 1 exactly up to the rounding of v₀ = √(2μ/q)),
+    // against Barker's equation D + D³/3 = √(μ/2q³)(t − T), D = tan(ν/2)
+    // (Danby 1988 §6.5; Murray & Dermott 1999 eq. 2.84ff), solved in closed
+    // form D = Y − 1/Y, Y = (3W/2 + √(9W²/4 + 1))^{1/3}.
+    let mu = G * 1.2;
+    let q = 0.5f64;
+    let k = (mu / (2.0 * q.powi(3))).sqrt();
+    let r0 = Vector3::new(q, 0.0, 0.0);
+    let v0 = Vector3::new(0.0, (2.0 * mu / q).sqrt(), 0.0);
+    for &dt in &[0.3, 10.0, 100.0, 1000.0, 1e5, -50.0] {
+        let w = k * dt;
+        let y = (1.5 * w + (2.25 * w * w + 1.0).sqrt()).cbrt();
+        let d = y - 1.0 / y;
+        let ddot = k / (1.0 + d * d);
+        let rw = Vector3::new(q * (1.0 - d * d), 2.0 * q * d, 0.0);
+        let vw = Vector3::new(-2.0 * q * d * ddot, 2.0 * q * ddot, 0.0);
+        let (mut r, mut v) = (r0, v0);
+        kepler_drift(&mut r, &mut v, mu, dt, None).unwrap();
+        let er = (r - rw).norm() / rw.norm();
+        let ev = (v - vw).norm() / vw.norm();
+        println!("parabolic dt = {dt}: {er:e} {ev:e}");
+        assert!(er <= 1e-10 && ev <= 1e-10, "dt = {dt}: {er:e} {ev:e}");
     }
 }

@@ -46,16 +46,35 @@ pub struct Stumpff {
 /// back (Danby 1988, §6.9, the "quartering" formulae).
 const SERIES_LIMIT: f64 = 0.1;
 
+/// Below x = −9 (√−x > 3) the hyperbolic Stumpff functions are taken from
+/// their closed forms instead.
+const HYPERBOLIC_CLOSED_FORM: f64 = 9.0;
+
 /// Stumpff functions at `x` by their power series after argument
 /// reduction x → x/4ⁿ, then n applications of the doubling formulae
 /// c₀(4x) = 2c₀(x)² − 1, c₁(4x) = c₀(x)c₁(x), c₂(4x) = c₁(x)²/2,
 /// c₃(4x) = (c₂(x) + c₀(x)c₃(x))/4 (Danby 1988, §6.9).
 ///
-/// Accurate to a few ulp for |x| ≲ 40 (one elliptic turn, x = β s² ≤ 4π²)
-/// and for any hyperbolic argument. Non-finite input gives non-finite output
+/// Accurate to a few ulp for |x| ≲ 40 (one elliptic turn, x = β s² ≤ 4π²);
+/// hyperbolic arguments x < −9 use the closed forms in cosh and sinh. Non-finite input gives non-finite output
 /// (callers check).
 #[inline]
 pub fn stumpff(x: f64) -> Stumpff {
+    if x < -HYPERBOLIC_CLOSED_FORM {
+        // Far out on a hyperbola the doublings would multiply rounding
+        // (each doubles the relative error of c₀); the closed forms have
+        // no cancellation for √−x > 3: c₀ = cosh y, c₁ = sinh y / y,
+        // c₂ = (cosh y − 1)/y², c₃ = (sinh y − y)/y³.
+        let y = (-x).sqrt();
+        let e = y.exp();
+        let (ch, sh) = (0.5 * (e + 1.0 / e), 0.5 * (e - 1.0 / e));
+        return Stumpff {
+            c0: ch,
+            c1: sh / y,
+            c2: (ch - 1.0) / (-x),
+            c3: (sh - y) / (-x * y),
+        };
+    }
     let mut xr = x;
     let mut n = 0u32;
     while xr.abs() > SERIES_LIMIT && n < 200 {
@@ -150,7 +169,7 @@ pub struct FandG {
 }
 
 /// Largest number of iterations of the universal Kepler equation.
-pub const MAX_DRIFT_ITERATIONS: usize = 100;
+pub const MAX_DRIFT_ITERATIONS: usize = 200;
 
 /// f and g functions for a drift by `dt` (days, either sign) of the relative
 /// state (`pos` au, `vel` au/day) about a gravitational parameter `mu`
@@ -227,11 +246,27 @@ pub fn f_and_g(
             let s1 = dt * inv_r;
             let t2 = -0.5 * rdot * s1 * s1;
             let t3 = ((3.0 * rdot * rdot - v2) + mu * inv_r) * s1 * s1 * s1 / 6.0;
-            let s0 = if t2.abs() + t3.abs() < 0.5 * s1.abs() {
+            let mut s0 = if t2.abs() + t3.abs() < 0.5 * s1.abs() {
                 s1 + t2 + t3
             } else {
                 s1
             };
+            if beta < 0.0 {
+                // Hyperbolic, long drift: for a|s| ≫ 1 (a = √−β) the
+                // G-functions grow as e^{a|s|}, and f(s) = dt gives
+                // |s| ≈ ln(2a³|dt| / (μ ± aη₀ + a²r₀)) / a (the
+                // asymptotic start of Danby 1988 §6.9). Used when it is
+                // the smaller estimate: the series overshoots there.
+                let a = (-beta).sqrt();
+                let den = mu + dt.signum() * a * eta0 + a * a * r0;
+                let arg = 2.0 * a * a * a * dt.abs() / den;
+                if den > 0.0 && arg > std::f64::consts::E {
+                    let s_h = dt.signum() * arg.ln() / a;
+                    if s_h.abs() < s0.abs() {
+                        s0 = s_h;
+                    }
+                }
+            }
             if s0 > lo && s0 < hi {
                 s0
             } else if s1 > lo && s1 < hi {
@@ -308,7 +343,12 @@ pub fn f_and_g(
             return fg_from(s, g0, g1, g2, r0, eta0, mu, iteration + 1);
         }
         let next = s + delta;
-        s = if delta.is_finite() && next > lo && next < hi {
+        // Safeguard: from iteration 12 on, every third step bisects a
+        // finite bracket, so slow progress far out on a hyperbola cannot
+        // exhaust the iterations.
+        let force_bisect =
+            iteration >= 12 && iteration % 3 == 0 && hi.is_finite() && lo.is_finite();
+        s = if delta.is_finite() && next > lo && next < hi && !force_bisect {
             next
         } else if lo.is_finite() && hi.is_finite() {
             0.5 * (lo + hi)
