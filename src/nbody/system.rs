@@ -380,6 +380,21 @@ impl System {
         kin + pot
     }
 
+    /// Energy of the post-Newtonian potential of the star in `s`,
+    /// Σ_k −3 (G m_0)² m_k / (c² r_0k²) in M☉ au² d⁻² (the position-only
+    /// Nobili & Roxburgh 1986 term used by the Wisdom–Holman kick); add it
+    /// to [`System::energy_of`] for the conserved energy when
+    /// `post_newtonian` is on.
+    pub fn post_newtonian_energy_of(&self, s: &Snapshot) -> f64 {
+        let gm0 = G * self.masses[0];
+        let c2 = crate::units::C_AU_PER_DAY * crate::units::C_AU_PER_DAY;
+        (1..s.len())
+            .map(|k| {
+                -3.0 * gm0 * gm0 * self.masses[k] / (c2 * (s.pos[k] - s.pos[0]).norm_squared())
+            })
+            .sum()
+    }
+
     /// Total energy (kinetic + potential) in M☉ au² d⁻², barycentric.
     /// (Without the post-Newtonian term.)
     pub fn energy(&self) -> f64 {
