@@ -167,5 +167,14 @@ mod tests {
         assert!((star - x[0]).norm() < 1e-16);
         // First Jacobi vector is the astrocentric one.
         assert!((j[1] - (x[1] - x[0])).norm() < 1e-15);
+        // Astrocentric round trip for a state with its barycentre at 0.
+        let com: Vector3<f64> = (0..4).map(|k| x[k] * m[k]).sum::<Vector3<f64>>() / mi[3];
+        let xb: Vec<Vector3<f64>> = x.iter().map(|v| v - com).collect();
+        let mut rel = [Vector3::zeros(); 4];
+        inertial_to_astrocentric(&xb, &mut rel);
+        astrocentric_to_inertial(&m, &rel, &mut back);
+        for k in 0..4 {
+            assert!((back[k] - xb[k]).norm() < 1e-15, "{k}");
+        }
     }
 }
