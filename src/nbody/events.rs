@@ -104,4 +104,17 @@ pub enum NbodyError {
     /// A requested time or step was not finite or not allowed.
     #[error("invalid request: {0}")]
     InvalidRequest(String),
+    /// A Kepler drift of body `body` failed at time `t` (days).
+    #[error("Kepler drift of body {body} failed at t = {t} d: {source}")]
+    Drift {
+        /// Time in days.
+        t: f64,
+        /// Body index (star = 0).
+        body: usize,
+        /// What the universal-variable solver reported.
+        source: super::universal::DriftError,
+    },
+    /// Osculating elements could not be formed from a state.
+    #[error("osculating elements: {0}")]
+    Elements(#[from] crate::kepler::ElementsError),
 }

@@ -8,7 +8,10 @@ pub mod events;
 pub mod forces;
 pub mod gauss_radau;
 pub mod integrator;
+pub mod jacobi;
 pub mod system;
+pub mod universal;
+pub mod wisdom_holman;
 
 pub use events::{Event, EventSettings, NbodyError};
 pub use integrator::Integrator;

@@ -1,0 +1,206 @@
+//! Wisdom–Holman speed: time per step for 1–8 planets, against the cost of
+//! one universal-variable Kepler drift measured in the same run, and the
+//! time of a full dynamical RV evaluation of the fitting case (two giants
+//! near 2:1, 400 epochs over 4000 d, step 2 d = P₁/50, which
+//! tests/dynamical_model.rs `second_order_convergence_and_bench_step_accuracy`
+//! shows to be within 1 mm/s of a 64× finer step).
+//!
+//! Measured in **CPU time of the benchmarking thread** (Linux
+//! `/proc/thread-self/schedstat`, nanoseconds on CPU) rather than wall
+//! time, because the build machine is shared and heavily loaded: wall time
+//! there swings by 2× between runs, CPU time does not. Falls back to wall
+//! time where the file does not exist.
+
+use std::f64::consts::FRAC_PI_2;
+use std::hint::black_box;
+use std::time::Duration;
+
+use apsidal::model::dynamical::{
+    DynamicalModel, DynamicalParams, DynamicalPlanet, DynamicalWorkspace, IntegratorChoice, Trend,
+};
+use apsidal::nbody::system::{JacobiPlanet, OrbitPhase, OrbitSize};
+use apsidal::nbody::universal::kepler_drift;
+use apsidal::nbody::wisdom_holman::{Corrector, WhSettings, WisdomHolman};
+use apsidal::nbody::{Integrator, Snapshot, System};
+use criterion::measurement::{Measurement, ValueFormatter};
+use criterion::{Criterion, Throughput, criterion_group, criterion_main};
+use nalgebra::Vector3;
+
+const STEPS: u64 = 1000;
+
+/// CPU time of the current thread in ns (see the module docs).
+struct CpuTime;
+
+fn cpu_ns() -> u64 {
+    static START: std::sync::OnceLock<std::time::Instant> = std::sync::OnceLock::new();
+    std::fs::read_to_string("/proc/thread-self/schedstat")
+        .ok()
+        .and_then(|s| s.split_whitespace().next().and_then(|v| v.parse().ok()))
+        .unwrap_or_else(|| {
+            START
+                .get_or_init(std::time::Instant::now)
+                .elapsed()
+                .as_nanos() as u64
+        })
+}
+
+impl Measurement for CpuTime {
+    type Intermediate = u64;
+    type Value = u64;
+    fn start(&self) -> u64 {
+        cpu_ns()
+    }
+    fn end(&self, i: u64) -> u64 {
+        cpu_ns().saturating_sub(i)
+    }
+    fn add(&self, a: &u64, b: &u64) -> u64 {
+        a + b
+    }
+    fn zero(&self) -> u64 {
+        0
+    }
+    fn to_f64(&self, v: &u64) -> f64 {
+        *v as f64
+    }
+    fn formatter(&self) -> &dyn ValueFormatter {
+        &CpuFormatter
+    }
+}
+
+struct CpuFormatter;
+
+impl ValueFormatter for CpuFormatter {
+    fn scale_values(&self, ns: f64, values: &mut [f64]) -> &'static str {
+        let (factor, unit) = if ns < 1e3 {
+            (1.0, "ns cpu")
+        } else if ns < 1e6 {
+            (1e-3, "µs cpu")
+        } else {
+            (1e-6, "ms cpu")
+        };
+        values.iter_mut().for_each(|v| *v *= factor);
+        unit
+    }
+    fn scale_throughputs(&self, _typical: f64, t: &Throughput, values: &mut [f64]) -> &'static str {
+        // Nanoseconds of CPU per element (per step); criterion prints the
+        // bounds of this column in reverse order.
+        let n = match *t {
+            Throughput::Elements(n) | Throughput::Bytes(n) | Throughput::BytesDecimal(n) => n,
+            Throughput::Bits(n) => n,
+        } as f64;
+        values.iter_mut().for_each(|v| *v /= n);
+        "ns cpu per element"
+    }
+    fn scale_for_machines(&self, _values: &mut [f64]) -> &'static str {
+        "ns"
+    }
+}
+
+/// A star with `n` planets at periods 10·2^k d (invented, widely spaced).
+fn system(n: usize) -> System {
+    let planets: Vec<JacobiPlanet> = (0..n)
+        .map(|k| JacobiPlanet {
+            mass: 3e-5 * (1.0 + k as f64),
+            radius: 0.0,
+            size: OrbitSize::Period(10.0 * 2f64.powi(k as i32)),
+            e: 0.05 + 0.01 * k as f64,
+            omega_star: 0.7 * k as f64,
+            phase: OrbitPhase::MeanAnomaly(1.3 * k as f64),
+            inc: FRAC_PI_2 - 0.02 * k as f64,
+            node: 0.03 * k as f64,
+        })
+        .collect();
+    System::from_jacobi_elements(1.0, 0.0, &planets, 0.0).unwrap()
+}
+
+fn wh_step(c: &mut Criterion<CpuTime>) {
+    let mut g = c.benchmark_group("wh_step");
+    g.sample_size(20)
+        .warm_up_time(Duration::from_millis(500))
+        .measurement_time(Duration::from_secs(2));
+    // Baseline: one Kepler drift of a mildly eccentric orbit by P/20.
+    g.throughput(Throughput::Elements(1));
+    g.bench_function("baseline_kepler_drift", |b| {
+        let (mut r, mut v) = (
+            Vector3::new(0.09, 0.02, 0.0),
+            Vector3::new(-0.004, 0.017, 0.001),
+        );
+        b.iter(|| {
+            kepler_drift(&mut r, &mut v, black_box(2.96e-4), black_box(0.5), None).unwrap();
+        })
+    });
+    g.throughput(Throughput::Elements(STEPS));
+    for n in [1usize, 2, 3, 5, 8] {
+        let sys = system(n);
+        let settings = WhSettings {
+            step: Some(0.5),
+            ..WhSettings::default()
+        };
+        let mut wh = WisdomHolman::new(&sys, settings).unwrap();
+        let mut out = Snapshot::zeros(n + 1, 0.0);
+        g.bench_function(format!("{n}_planets_x{STEPS}_steps"), |b| {
+            b.iter(|| {
+                let t = wh.time() + STEPS as f64 * 0.5;
+                wh.advance_to(black_box(t), &mut out).unwrap();
+            })
+        });
+    }
+    g.finish();
+}
+
+fn dynamical_rv(c: &mut Criterion<CpuTime>) {
+    let pl = |period, k, e, w, m, inc, dn| DynamicalPlanet {
+        period,
+        k,
+        e,
+        omega_star: w,
+        mean_anomaly: m,
+        inc,
+        delta_node: dn,
+    };
+    // Same system as tests/dynamical_model.rs `two_giants`.
+    let params = DynamicalParams {
+        star_mass: 0.8,
+        planets: vec![
+            pl(100.0, 38.0, 0.1, 0.4, 1.0, 1.3, 0.0),
+            pl(205.0, 45.0, 0.1, 2.0, 4.0, 1.4, 0.2),
+        ],
+        offsets: vec![0.0],
+        trend: Trend::default(),
+    };
+    let epochs: Vec<f64> = (0..400)
+        .map(|i| {
+            let j = (i * 173) % 400;
+            j as f64 * 10.0 + 3.7 * ((j as f64) * 0.61).sin()
+        })
+        .collect();
+    let inst = vec![0usize; 400];
+    let model = DynamicalModel {
+        integrator: IntegratorChoice::WisdomHolman {
+            step: Some(2.0),
+            corrector: Corrector::Off,
+        },
+        ..DynamicalModel::new(2000.0)
+    };
+    let mut ws = DynamicalWorkspace::default();
+    let mut out = vec![0.0; 400];
+    let mut g = c.benchmark_group("wh_dynamical_rv");
+    g.sample_size(20)
+        .warm_up_time(Duration::from_millis(500))
+        .measurement_time(Duration::from_secs(3));
+    g.bench_function("two_giants_400_epochs_4000_d_step_2d", |b| {
+        b.iter(|| {
+            model
+                .star_rv(black_box(&params), &epochs, &inst, &mut ws, &mut out)
+                .unwrap();
+        })
+    });
+    g.finish();
+}
+
+criterion_group! {
+    name = benches;
+    config = Criterion::default().with_measurement(CpuTime);
+    targets = wh_step, dynamical_rv
+}
+criterion_main!(benches);
