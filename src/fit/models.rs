@@ -16,7 +16,18 @@ use serde::{Deserialize, Serialize};
 
 use super::likelihood::{chi_square, ln_likelihood};
 use super::params::{ParamError, ParameterSet, ecc_omega_from_sqrt_basis};
+use crate::model::dynamical::{
+    DynamicalModel, DynamicalParams, DynamicalPlanet, DynamicalWorkspace, Trend as DynTrend,
+};
 use crate::model::keplerian::{KeplerianParams, PlanetSignal, Trend, keplerian_model_rv};
+
+thread_local! {
+    /// One dynamical-model workspace per thread: repeated evaluations
+    /// (optimiser, sampler, finite differences in parallel) then allocate
+    /// nothing, and the result does not depend on which thread ran it.
+    static DYNAMICAL_WORKSPACE: std::cell::RefCell<DynamicalWorkspace> =
+        std::cell::RefCell::new(DynamicalWorkspace::default());
+}
 
 /// Which RV model is fitted.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -116,6 +127,9 @@ pub struct RvModel {
     pub t_ref: f64,
     /// The parameters.
     pub params: ParameterSet,
+    /// Settings of the N-body integration (dynamical kinds only):
+    /// integrator, step, stellar radius, events, post-Newtonian term.
+    pub dynamics: DynamicalModel,
     trend: TrendKind,
     planets: Vec<PlanetSlots>,
     offsets: Vec<usize>,
@@ -213,6 +227,7 @@ impl RvModel {
             star_mass,
             t_ref,
             params,
+            dynamics: DynamicalModel::new(t_ref),
             trend,
             planets,
             offsets,
@@ -320,9 +335,35 @@ impl RvModel {
                 keplerian_model_rv(&params, t, inst, out)
                     .map_err(|e| ModelError::Evaluation(e.to_string()))
             }
-            _ => Err(ModelError::Evaluation(
-                "dynamical models are not available in this build".into(),
-            )),
+            _ => {
+                let (c1, c2) = self.trend_of(full).coefficients();
+                let params = DynamicalParams {
+                    star_mass: self.star_mass,
+                    planets: planets
+                        .iter()
+                        .map(|p| DynamicalPlanet {
+                            period: p.period,
+                            k: p.semi_amplitude,
+                            e: p.eccentricity,
+                            omega_star: p.omega_star,
+                            mean_anomaly: p.mean_anomaly,
+                            inc: p.inclination,
+                            delta_node: p.node,
+                        })
+                        .collect(),
+                    offsets: self.offsets_of(full),
+                    trend: DynTrend {
+                        linear: c1,
+                        quadratic: c2,
+                    },
+                };
+                DYNAMICAL_WORKSPACE.with(|ws| {
+                    let mut ws = ws.borrow_mut();
+                    self.dynamics
+                        .star_rv(&params, t, inst, &mut ws, out)
+                        .map_err(|e| ModelError::Evaluation(e.to_string()))
+                })
+            }
         }
     }
 
