@@ -241,6 +241,10 @@ fn bad_parameters_are_refused() {
         keplerian_model_rv(&good, &[1.0, f64::NAN], &[0, 0], &mut out).unwrap_err(),
         KeplerianError::Epoch { index: 1 }
     ));
+    assert!(matches!(
+        keplerian_model_rv(&good, &[1.0, 2e9], &[0, 0], &mut out).unwrap_err(),
+        KeplerianError::Epoch { index: 1 }
+    ));
     let mut bad = good.clone();
     bad.offsets[0] = f64::NAN;
     assert!(matches!(

@@ -5,7 +5,7 @@ mod anomaly;
 mod elements;
 mod equation;
 mod masses;
-pub mod trig;
+pub(crate) mod trig;
 
 pub use anomaly::*;
 pub use elements::*;

@@ -198,8 +198,9 @@ pub enum KeplerianError {
         /// Length of the output slice.
         out: usize,
     },
-    /// An epoch is not finite.
-    #[error("epoch {index} is not finite")]
+    /// An epoch is not finite, or further than [`MAX_SPAN_DAYS`] from the
+    /// reference epoch.
+    #[error("epoch {index} is not finite or more than 1e9 days from the reference epoch")]
     Epoch {
         /// Position of the epoch in the slice.
         index: usize,
@@ -232,6 +233,16 @@ impl KeplerianParams {
         }
         Ok(())
     }
+}
+
+/// Largest |t − t_ref| accepted, in days (≈ 2.7 million years): keeps the
+/// phase far inside the range where its reduction to one turn is exact.
+pub const MAX_SPAN_DAYS: f64 = 1e9;
+
+/// Whether epoch `t` is finite and within [`MAX_SPAN_DAYS`] of `t_ref`.
+#[inline]
+fn within_span(t: f64, t_ref: f64) -> bool {
+    (t - t_ref).abs() <= MAX_SPAN_DAYS
 }
 
 /// Constants of one signal computed once per evaluation, outside the loop
@@ -319,7 +330,8 @@ impl Prepared {
 /// Add the RV (m/s) of one Keplerian signal at each epoch (days) to `out`.
 ///
 /// `planet` is validated first; `out` must have the length of `epochs`.
-/// Epochs must be finite. No allocation.
+/// Epochs must be finite and within [`MAX_SPAN_DAYS`] of `t_ref`. No
+/// allocation.
 pub fn add_planet_signal(
     planet: &PlanetSignal,
     t_ref: f64,
@@ -337,7 +349,7 @@ pub fn add_planet_signal(
             out: out.len(),
         });
     }
-    if let Some(index) = epochs.iter().position(|t| !t.is_finite()) {
+    if let Some(index) = epochs.iter().position(|&t| !within_span(t, t_ref)) {
         return Err(KeplerianError::Epoch { index });
     }
     Prepared::new(planet).add_to(t_ref, epochs, out);
@@ -385,7 +397,7 @@ pub fn keplerian_model_rv(
     let t_ref = params.t_ref;
     let n_offsets = params.offsets.len();
     for (index, ((o, &t), &inst)) in out.iter_mut().zip(epochs).zip(instruments).enumerate() {
-        if !t.is_finite() {
+        if !within_span(t, t_ref) {
             return Err(KeplerianError::Epoch { index });
         }
         let gamma = *params.offsets.get(inst).ok_or(KeplerianError::Instrument {
@@ -426,5 +438,5 @@ pub fn keplerian_rv(
     };
     planet.validate(0).ok()?;
     let dt = t - t_ref;
-    dt.is_finite().then(|| Prepared::new(&planet).rv(dt))
+    within_span(t, t_ref).then(|| Prepared::new(&planet).rv(dt))
 }
