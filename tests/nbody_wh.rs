@@ -322,9 +322,21 @@ fn energy_bounded_without_drift_over_1e5_orbits() {
     let (e_first, e_last) = (max_of(&de[..tenth]), max_of(&de[de.len() - tenth..]));
     let (l_first, l_last) = (max_of(&dl[..tenth]), max_of(&dl[dl.len() - tenth..]));
     println!("max |ΔE/E|: first tenth {e_first:e}, last tenth {e_last:e}");
+    let per: Vec<String> = de
+        .chunks(tenth)
+        .map(|c| format!("{:.2e}", max_of(c)))
+        .collect();
+    println!("per tenth: {}", per.join(" "));
     println!("max |ΔL|/L: first tenth {l_first:e}, last tenth {l_last:e}");
+    // The envelope of a symplectic map's energy error follows the slow
+    // (secular) evolution of the orbits and so varies between tenths (by
+    // ±30 % here, non-monotonically); a non-symplectic drift would grow
+    // ∝ t. Required: no tenth above twice the first, the last included.
     assert!(e_first < 1e-4 && e_last < 1e-4);
-    assert!(e_last < 1.5 * e_first, "energy error grew");
+    assert!(
+        de.chunks(tenth).all(|c| max_of(c) < 2.0 * e_first),
+        "energy error grew"
+    );
     assert!(l_last < 1e-11 && l_first < 1e-11);
 }
 
