@@ -23,6 +23,7 @@
 use nalgebra::Vector3;
 
 use crate::kepler::planet_mass;
+use crate::nbody::gauss_radau::{GaussRadau, GaussRadauSettings};
 use crate::nbody::system::{JacobiPlanet, OrbitPhase, OrbitSize};
 use crate::nbody::wisdom_holman::{Corrector, WhSettings, WisdomHolman};
 use crate::nbody::{EventSettings, Integrator, NbodyError, Snapshot, System};
@@ -81,6 +82,13 @@ pub enum IntegratorChoice {
         step: Option<f64>,
         /// Symplectic corrector.
         corrector: Corrector,
+    },
+    /// Adaptive 15th-order Gauss–Radau ([`crate::nbody::gauss_radau`])
+    /// with this step-control tolerance ε (IAS15's; 1e-9 reaches
+    /// round-off). The reference integrator: slower, allocates per call.
+    GaussRadau {
+        /// Step-control tolerance ε.
+        tolerance: f64,
     },
 }
 
@@ -303,6 +311,25 @@ impl DynamicalModel {
                     wh.reset(&ws.system, step)?;
                     sample_star_vz(
                         wh,
+                        epochs,
+                        ws.order[..split].iter().rev(),
+                        &mut ws.snap,
+                        out,
+                    )?;
+                }
+            }
+            IntegratorChoice::GaussRadau { tolerance } => {
+                let settings = GaussRadauSettings {
+                    tolerance,
+                    initial_step: None,
+                    events: self.events,
+                };
+                let mut gr = GaussRadau::new(ws.system.clone(), settings)?;
+                sample_star_vz(&mut gr, epochs, &ws.order[split..], &mut ws.snap, out)?;
+                if split > 0 {
+                    let mut gr = GaussRadau::new(ws.system.clone(), settings)?;
+                    sample_star_vz(
+                        &mut gr,
                         epochs,
                         ws.order[..split].iter().rev(),
                         &mut ws.snap,
