@@ -8,7 +8,10 @@ use crate::fit::params::{ParamError, Parameter, ParameterSet, Prior};
 use crate::kepler::{periastron_from_conjunction, planet_mass, semi_amplitude};
 use crate::units::{earth_to_sun, jupiter_to_sun};
 
+use super::sections::IntegratorChoice;
 use super::types::{Phase, PlanetStart, RunFile, Signal};
+use crate::model::dynamical::IntegratorChoice as DynIntegrator;
+use crate::nbody::wisdom_holman::Corrector;
 
 /// Why a model could not be set up from a run file.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -207,10 +210,23 @@ pub fn build_model(
         source,
     })?;
     let names: Vec<String> = guesses.iter().map(|g| g.name.clone()).collect();
-    RvModel::new(obs, kind, run.star.mass, t_ref, &names, fit.trend, set).map_err(|source| {
-        SetupError::Model {
+    let mut model = RvModel::new(obs, kind, run.star.mass, t_ref, &names, fit.trend, set).map_err(
+        |source| SetupError::Model {
             file: file.to_string(),
             source,
-        }
-    })
+        },
+    )?;
+    model.dynamics.star_radius = run.star.radius.map_or(0.0, |r| r * crate::units::R_SUN_AU);
+    model.dynamics.integrator = match fit.integrator {
+        IntegratorChoice::SymplecticAuto => DynIntegrator::WisdomHolman {
+            step: None,
+            corrector: Corrector::Off,
+        },
+        IntegratorChoice::Symplectic(h) => DynIntegrator::WisdomHolman {
+            step: Some(h),
+            corrector: Corrector::Off,
+        },
+        IntegratorChoice::GaussRadau(tolerance) => DynIntegrator::GaussRadau { tolerance },
+    };
+    Ok(model)
 }
