@@ -18,4 +18,5 @@ pub mod kepler;
 pub mod model;
 pub mod nbody;
 pub mod periodogram;
+pub mod report;
 pub mod units;
