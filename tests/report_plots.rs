@@ -62,12 +62,15 @@ fn check_svg(name: &str, svg: &str) -> Parsed {
     Parsed { texts, counts }
 }
 
-/// Deterministic pseudo-noise in [−1, 1] (a fixed LCG: no seed to manage).
+/// Deterministic pseudo-noise in [−1, 1]: the SplitMix64 finaliser
+/// (Steele, Lea & Flood 2014) of the index, so neighbouring indices are
+/// uncorrelated.
 fn noise(i: usize) -> f64 {
-    let x = (i as u64)
-        .wrapping_mul(6_364_136_223_846_793_005)
-        .wrapping_add(1_442_695_040_888_963_407);
-    ((x >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+    let mut z = (i as u64).wrapping_add(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^= z >> 31;
+    ((z >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
 }
 
 fn kep(t: f64) -> f64 {

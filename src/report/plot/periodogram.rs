@@ -129,8 +129,8 @@ pub fn periodogram_plot(p: &PeriodogramPlot<'_>) -> Result<String, PlotError> {
     let (x0, x1) = (plo / 1.05, phi * 1.05);
     let columns = 2 * p.size.width as usize;
 
-    render_svg(p.size, |root| {
-        let root = root.titled(p.title, (FONT, TITLE_PX).into_font())?;
+    render_svg(p.size, |canvas| {
+        let root = canvas.titled(p.title, (FONT, TITLE_PX).into_font())?;
         let n = p.panels.len();
         let h = root.dim_in_pixel().1;
         // Equal panels; the last one also holds the period axis text.
@@ -157,7 +157,7 @@ pub fn periodogram_plot(p: &PeriodogramPlot<'_>) -> Result<String, PlotError> {
             let mut chart = ChartBuilder::on(area)
                 .caption(panel.title, (FONT, LABEL_PX))
                 .margin_left(12)
-                .margin_right(24)
+                .margin_right(96)
                 .margin_top(4)
                 .x_label_area_size(if last { 56 } else { 26 })
                 .y_label_area_size(84)
@@ -168,7 +168,7 @@ pub fn periodogram_plot(p: &PeriodogramPlot<'_>) -> Result<String, PlotError> {
             mesh.light_line_style(WHITE)
                 .bold_line_style(GRID_GREY)
                 .x_labels(12)
-                .y_labels(4)
+                .y_labels(6)
                 .x_label_formatter(&fx)
                 .y_label_formatter(&fy)
                 .y_desc(p.power_label)
@@ -180,24 +180,36 @@ pub fn periodogram_plot(p: &PeriodogramPlot<'_>) -> Result<String, PlotError> {
             mesh.draw()?;
             let thin = envelope(pts, x0, x1, columns);
             draw_line(&mut chart, &[thin], LineDash::Solid, BLACK, None)?;
+            // Levels as lines; their labels in the right margin, pushed
+            // apart (≥ 16 px) where levels lie close together.
+            let mut marks: Vec<(i32, &str)> = Vec::new();
             for (i, f) in panel.fap_levels.iter().enumerate() {
-                if !f.power.is_finite() {
+                if !f.power.is_finite() || f.power < y_min || f.power > y_top {
                     continue;
                 }
-                let dash = LineDash::nth(i + 1);
                 draw_line(
                     &mut chart,
                     &[vec![(x0, f.power), (x1, f.power)]],
-                    dash,
+                    LineDash::nth(i + 1),
                     RGBColor(80, 80, 80),
                     None,
                 )?;
-                chart.draw_series(std::iter::once(Text::new(
-                    f.label.to_string(),
-                    (x1 / 1.01, f.power),
+                marks.push((chart.backend_coord(&(x1, f.power)).1, f.label));
+            }
+            marks.sort_by_key(|m| std::cmp::Reverse(m.0));
+            for k in 1..marks.len() {
+                if marks[k - 1].0 - marks[k].0 < 16 {
+                    marks[k].0 = marks[k - 1].0 - 16;
+                }
+            }
+            let x_text = chart.backend_coord(&(x1, y_min)).0 + 8;
+            for (y, label) in marks {
+                canvas.draw(&Text::new(
+                    label.to_string(),
+                    (x_text, y),
                     TextStyle::from((FONT, LEGEND_PX).into_font())
-                        .pos(Pos::new(HPos::Right, VPos::Bottom)),
-                )))?;
+                        .pos(Pos::new(HPos::Left, VPos::Center)),
+                ))?;
             }
             if let Some(pk) = panel.peak_period.filter(|v| v.is_finite() && *v > 0.0) {
                 let near = pts

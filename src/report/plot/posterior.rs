@@ -134,6 +134,9 @@ struct PanelAxes<'s> {
     y_desc: Option<&'s str>,
     x_ticks: bool,
     y_ticks: bool,
+    /// Width kept left of the plotting area even without ticks, so that
+    /// the panels of one column line up.
+    left_area: Option<u32>,
 }
 
 /// Builds a small chart with the given axis texts.
@@ -151,22 +154,27 @@ fn small_chart<'a, 'b>(
             (true, false) => 24,
             _ => 4,
         })
-        .y_label_area_size(match (ax.y_ticks, ax.y_desc.is_some()) {
-            (_, true) => 70,
-            (true, false) => 48,
-            _ => 4,
-        });
+        .y_label_area_size(
+            ax.left_area
+                .unwrap_or(match (ax.y_ticks, ax.y_desc.is_some()) {
+                    (_, true) => 70,
+                    (true, false) => 48,
+                    _ => 4,
+                }),
+        );
     if let Some(c) = ax.caption {
         b.caption(c, (FONT, SMALL_LABEL_PX));
     }
+    // About one tick label per 75 px, so labels never run into each other.
+    let ticks = (area.dim_in_pixel().0 / 75).clamp(2, 6) as usize;
     let mut chart = b.build_cartesian_2d(x0..x1, y0..y1)?;
     let fx = |v: &f64| tick_label(*v, x1 - x0);
     let fy = |v: &f64| tick_label(*v, y1 - y0);
     let mut mesh = chart.configure_mesh();
     mesh.light_line_style(WHITE)
         .bold_line_style(GRID_GREY)
-        .x_labels(if ax.x_ticks { 4 } else { 0 })
-        .y_labels(if ax.y_ticks { 4 } else { 0 })
+        .x_labels(if ax.x_ticks { ticks } else { 0 })
+        .y_labels(if ax.y_ticks { 5 } else { 0 })
         .x_label_formatter(&fx)
         .y_label_formatter(&fy)
         .label_style((FONT, SMALL_TICK_PX))
@@ -254,6 +262,7 @@ pub fn histogram_grid(p: &HistogramGridPlot<'_>) -> Result<String, PlotError> {
                 y_desc: (k % cols == 0).then_some("samples [count]"),
                 x_ticks: true,
                 y_ticks: true,
+                left_area: Some(if k % cols == 0 { 84 } else { 52 }),
             };
             draw_histogram(&panels[k], sorted, p.bins, ax)?;
         }
@@ -300,11 +309,14 @@ pub fn pair_plot(p: &PairPlot<'_>) -> Result<String, PlotError> {
                 let bottom = i + 1 == n;
                 let left = j == 0;
                 let ax = PanelAxes {
-                    caption: (i == j).then_some(labels[i].as_str()),
+                    // Every panel gets a caption line (blank off the diagonal) so the
+                    // plotting areas of a row share their height.
+                    caption: Some(if i == j { labels[i].as_str() } else { " " }),
                     x_desc: bottom.then_some(labels[j].as_str()),
                     y_desc: (left && i > 0).then_some(labels[i].as_str()),
                     x_ticks: bottom,
                     y_ticks: left && i > 0,
+                    left_area: Some(if left { 84 } else { 4 }),
                 };
                 if i == j {
                     draw_histogram(area, &data[i], p.bins, ax)?;
