@@ -97,7 +97,9 @@ fn rv_time_series_two_instruments_two_models() {
     va[3] = f64::NAN; // skipped, never written
     let (vb, eb, rb) = mk(&tb, 7);
     let tm: Vec<f64> = (0..1200).map(|i| t0 - 10.0 + i as f64 * 0.6).collect();
-    let vk: Vec<f64> = tm.iter().map(|&t| kep(t)).collect();
+    let mut vk: Vec<f64> = tm.iter().map(|&t| kep(t)).collect();
+    vk[600] = f64::NAN; // breaks the curve, never written
+    vk[601] = f64::NEG_INFINITY;
     let vd: Vec<f64> = tm
         .iter()
         .map(|&t| kep(t) + 4.0 * ((t - t0) / 700.0))
@@ -673,5 +675,122 @@ fn posterior_histograms_and_pairs() {
             size: PlotSize::default(),
         }),
         Err(PlotError::EmptySeries { .. })
+    ));
+}
+
+#[test]
+fn empty_inputs_are_typed_errors() {
+    let nan = [f64::NAN; 3];
+    let ok = [1.0, 2.0, 3.0];
+    let e = |r: Result<String, PlotError>| matches!(r, Err(PlotError::EmptySeries { .. }));
+    assert!(e(periodogram_plot(&PeriodogramPlot {
+        title: "x",
+        power_label: "power",
+        panels: &[],
+        size: PlotSize::default(),
+    })));
+    let neg = [-1.0, 0.0, f64::NAN];
+    assert!(e(periodogram_plot(&PeriodogramPlot {
+        title: "x",
+        power_label: "power",
+        panels: &[PeriodogramPanel {
+            title: "p",
+            period: &neg, // no positive finite period
+            power: &ok,
+            fap_levels: &[],
+            peak_period: None,
+        }],
+        size: PlotSize::default(),
+    })));
+    assert!(e(angle_plot(&AnglePlot {
+        title: "x",
+        time_label: "t",
+        series: &[AngleSeries {
+            name: "a",
+            time: &ok,
+            angle_deg: &nan,
+        }],
+        range: AngleRange::ZeroTo360,
+        size: PlotSize::default(),
+    })));
+    assert!(e(divergence_plot(&DivergencePlot {
+        title: "x",
+        time_scale: "BJD_TDB",
+        time: &ok,
+        delta_v: &nan,
+        threshold: 1.0,
+        horizon: None,
+        data_span: None,
+        size: PlotSize::default(),
+    })));
+    assert!(e(phase_fold_plot(&PhaseFoldPlot {
+        title: "x",
+        instruments: &[PhasePoints {
+            name: "a",
+            phase: &ok,
+            rv: &ok,
+            error: &ok,
+        }],
+        model_name: "m",
+        model_phase: &nan,
+        model_rv: &ok,
+        size: PlotSize::default(),
+    })));
+    let axis = GridAxis {
+        label: "x",
+        min: 0.0,
+        max: 1.0,
+        count: 2,
+    };
+    let four = [1.0; 4];
+    let bad_clip = heat_map(&HeatMapPlot {
+        title: "x",
+        x: axis,
+        y: axis,
+        values: &four,
+        value_label: "v",
+        clip: (8.0, 2.0),
+        scale: ColourScale::Grey,
+        size: PlotSize::default(),
+    });
+    assert!(matches!(bad_clip, Err(PlotError::InvalidSetting { .. })));
+    let wrong_len = heat_map(&HeatMapPlot {
+        title: "x",
+        x: axis,
+        y: axis,
+        values: &ok,
+        value_label: "v",
+        clip: (2.0, 8.0),
+        scale: ColourScale::Grey,
+        size: PlotSize::default(),
+    });
+    assert!(matches!(wrong_len, Err(PlotError::LengthMismatch { .. })));
+    // An all-missing grid is still a picture: every cell drawn as missing.
+    let svg = heat_map(&HeatMapPlot {
+        title: "x",
+        x: axis,
+        y: axis,
+        values: &[f64::NAN; 4],
+        value_label: "v",
+        clip: (2.0, 8.0),
+        scale: ColourScale::Grey,
+        size: PlotSize::default(),
+    })
+    .unwrap();
+    check_svg("heat_map_missing", &svg);
+    let tiny = PlotSize::new(50, 50);
+    assert!(matches!(
+        angle_plot(&AnglePlot {
+            title: "x",
+            time_label: "t",
+            series: &[AngleSeries {
+                name: "a",
+                time: &ok,
+                angle_deg: &ok,
+            }],
+            range: AngleRange::ZeroTo360,
+            size: tiny,
+        }),
+        Err(PlotError::InvalidSetting { .. })
     ));
 }

@@ -245,3 +245,24 @@ pub fn periodogram_plot(p: &PeriodogramPlot<'_>) -> Result<String, PlotError> {
         Ok(())
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::envelope;
+
+    #[test]
+    fn envelope_keeps_extremes_and_order() {
+        let pts: Vec<(f64, f64)> = (0..100_000)
+            .map(|i| {
+                let p = 1.0 + i as f64 * 1e-3;
+                (p, if i == 54_321 { 9.0 } else { (i as f64).sin() })
+            })
+            .collect();
+        let kept = envelope(&pts, 1.0, 101.0, 500);
+        assert!(kept.len() <= 2 * 500 + 2);
+        assert!(kept.iter().any(|&(_, y)| y == 9.0));
+        let lo = pts.iter().map(|q| q.1).fold(f64::INFINITY, f64::min);
+        assert!(kept.iter().any(|&(_, y)| y == lo));
+        assert!(kept.windows(2).all(|w| w[1].0 > w[0].0));
+    }
+}
