@@ -43,9 +43,9 @@ impl AngleRange {
 pub struct AngleSeries<'a> {
     /// Legend text (e.g. "φ₁ = 2λ₂ − λ₁ − ϖ₁").
     pub name: &'a str,
-    /// Times [yr] (e.g. Julian years since the reference epoch).
+    /// Times \[yr\] (e.g. Julian years since the reference epoch).
     pub time: &'a [f64],
-    /// Angles [deg], any branch (wrapped here).
+    /// Angles \[deg\], any branch (wrapped here).
     pub angle_deg: &'a [f64],
 }
 
@@ -55,7 +55,7 @@ pub struct AnglePlot<'a> {
     /// Title of the figure.
     pub title: &'a str,
     /// What the time counts from, for the axis label (e.g. "time since
-    /// reference epoch"); the unit "[yr]" is appended.
+    /// reference epoch"); the unit "\[yr\]" is appended.
     pub time_label: &'a str,
     /// The series (one marker shape each). Thin long series before drawing:
     /// every point becomes an SVG element.

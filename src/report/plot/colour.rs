@@ -3,7 +3,7 @@
 
 use plotters::prelude::*;
 
-/// A sequential colour scale mapping t ∈ [0, 1] to a colour whose
+/// A sequential colour scale mapping t ∈ \[0, 1\] to a colour whose
 /// luminance grows with t (dark = low values, light = high values).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum ColourScale {
@@ -18,7 +18,7 @@ pub enum ColourScale {
 }
 
 impl ColourScale {
-    /// Colour at `t` (clamped into [0, 1]; a non-finite `t` gives the low
+    /// Colour at `t` (clamped into \[0, 1\]; a non-finite `t` gives the low
     /// end) as (r, g, b) bytes.
     pub fn rgb(self, t: f64) -> (u8, u8, u8) {
         let t = if t.is_finite() {
@@ -47,7 +47,7 @@ impl ColourScale {
     }
 }
 
-/// Relative luminance Y ∈ [0, 1] of an sRGB colour: linearise each channel
+/// Relative luminance Y ∈ \[0, 1\] of an sRGB colour: linearise each channel
 /// (IEC 61966-2-1 transfer function) and weight by 0.2126, 0.7152, 0.0722
 /// (ITU-R BT.709 primaries; the definition used by WCAG 2.x).
 pub fn relative_luminance(r: u8, g: u8, b: u8) -> f64 {

@@ -18,16 +18,16 @@ pub struct DivergencePlot<'a> {
     pub title: &'a str,
     /// Name of the time scale for the axis label (e.g. "BJD_TDB").
     pub time_scale: &'a str,
-    /// Epochs [d], increasing.
+    /// Epochs \[d\], increasing.
     pub time: &'a [f64],
-    /// Dynamical minus Keplerian RV [m/s] at each epoch.
+    /// Dynamical minus Keplerian RV \[m/s\] at each epoch.
     pub delta_v: &'a [f64],
-    /// Half-width v of the band ±v [m/s] (e.g. the typical measurement
+    /// Half-width v of the band ±v \[m/s\] (e.g. the typical measurement
     /// error); must be finite and > 0.
     pub threshold: f64,
-    /// Epoch from which |Δv| stays above the threshold [d], if reached.
+    /// Epoch from which |Δv| stays above the threshold \[d\], if reached.
     pub horizon: Option<f64>,
-    /// First and last epoch of the data [d], shaded.
+    /// First and last epoch of the data \[d\], shaded.
     pub data_span: Option<(f64, f64)>,
     /// Picture size.
     pub size: PlotSize,

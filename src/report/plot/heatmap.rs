@@ -12,7 +12,7 @@ use super::{PlotError, PlotSize, render_svg};
 /// One axis of a regular grid: `count` cell centres from `min` to `max`.
 #[derive(Debug, Clone, Copy)]
 pub struct GridAxis<'a> {
-    /// Axis label with unit (e.g. "P_c [d]").
+    /// Axis label with unit (e.g. "P_c \[d\]").
     pub label: &'a str,
     /// Centre of the first cell.
     pub min: f64,

@@ -25,13 +25,13 @@ pub struct FapLevel<'a> {
 pub struct PeriodogramPanel<'a> {
     /// Panel caption (e.g. "residuals after b").
     pub title: &'a str,
-    /// Trial periods [d] (positive; any order).
+    /// Trial periods \[d\] (positive; any order).
     pub period: &'a [f64],
     /// Power at each period.
     pub power: &'a [f64],
     /// False-alarm levels drawn as labelled horizontal lines.
     pub fap_levels: &'a [FapLevel<'a>],
-    /// Period of the peak taken at this step [d], marked by a vertical line.
+    /// Period of the peak taken at this step \[d\], marked by a vertical line.
     pub peak_period: Option<f64>,
 }
 
@@ -40,7 +40,7 @@ pub struct PeriodogramPanel<'a> {
 pub struct PeriodogramPlot<'a> {
     /// Title of the figure.
     pub title: &'a str,
-    /// Name of the power with its normalisation (e.g. "GLS power [normalised]").
+    /// Name of the power with its normalisation (e.g. "GLS power \[normalised\]").
     pub power_label: &'a str,
     /// Panels from top to bottom.
     pub panels: &'a [PeriodogramPanel<'a>],

@@ -29,7 +29,7 @@ pub struct ParameterSamples<'a> {
 }
 
 impl ParameterSamples<'_> {
-    /// "name [unit]", or "name" when the unit is empty.
+    /// "name \[unit\]", or "name" when the unit is empty.
     fn label(&self) -> String {
         if self.unit.is_empty() {
             self.name.to_string()
@@ -233,7 +233,7 @@ fn draw_histogram(
 }
 
 /// Draws one histogram per parameter in a grid of `columns` panels a row,
-/// each captioned "name [unit]", with median and 16/84 % quantiles marked.
+/// each captioned "name \[unit\]", with median and 16/84 % quantiles marked.
 pub fn histogram_grid(p: &HistogramGridPlot<'_>) -> Result<String, PlotError> {
     if p.parameters.is_empty() {
         return Err(empty("parameters"));

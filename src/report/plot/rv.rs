@@ -15,13 +15,13 @@ use super::{PlotError, PlotSize, empty, render_svg, same_len};
 pub struct RvPoints<'a> {
     /// Instrument name (legend text).
     pub name: &'a str,
-    /// Epochs [d] (any day count, e.g. BJD_TDB).
+    /// Epochs \[d\] (any day count, e.g. BJD_TDB).
     pub time: &'a [f64],
-    /// Radial velocities [m/s], instrument offset removed.
+    /// Radial velocities \[m/s\], instrument offset removed.
     pub rv: &'a [f64],
-    /// 1σ uncertainties [m/s] drawn as error bars (negative ones are skipped).
+    /// 1σ uncertainties \[m/s\] drawn as error bars (negative ones are skipped).
     pub error: &'a [f64],
-    /// Residuals data − model [m/s] (the first model curve's), same length as
+    /// Residuals data − model \[m/s\] (the first model curve's), same length as
     /// `time`; empty when there are none for this instrument.
     pub residual: &'a [f64],
 }
@@ -31,9 +31,9 @@ pub struct RvPoints<'a> {
 pub struct ModelCurve<'a> {
     /// Legend text (e.g. "Keplerian", "dynamical").
     pub name: &'a str,
-    /// Epochs [d], increasing.
+    /// Epochs \[d\], increasing.
     pub time: &'a [f64],
-    /// Model RV [m/s].
+    /// Model RV \[m/s\].
     pub rv: &'a [f64],
 }
 
@@ -60,9 +60,9 @@ pub struct PhasePoints<'a> {
     pub name: &'a str,
     /// Orbital phase in cycles (wrapped into [0, 1)).
     pub phase: &'a [f64],
-    /// RV with all other signals removed [m/s].
+    /// RV with all other signals removed \[m/s\].
     pub rv: &'a [f64],
-    /// 1σ uncertainties [m/s].
+    /// 1σ uncertainties \[m/s\].
     pub error: &'a [f64],
 }
 
@@ -76,9 +76,9 @@ pub struct PhaseFoldPlot<'a> {
     pub instruments: &'a [PhasePoints<'a>],
     /// Legend text of the model curve.
     pub model_name: &'a str,
-    /// Phases of the model curve [cycles] (any order; wrapped and sorted).
+    /// Phases of the model curve \[cycles\] (any order; wrapped and sorted).
     pub model_phase: &'a [f64],
-    /// Model RV of this planet alone [m/s].
+    /// Model RV of this planet alone \[m/s\].
     pub model_rv: &'a [f64],
     /// Picture size.
     pub size: PlotSize,
