@@ -209,7 +209,7 @@ pub fn rv_time_series(p: &RvTimeSeriesPlot<'_>) -> Result<String, PlotError> {
         mesh.light_line_style(WHITE)
             .bold_line_style(GRID_GREY)
             .x_labels(10)
-            .y_labels(8)
+            .y_labels(10)
             .x_label_formatter(&fx)
             .y_label_formatter(&fy)
             .y_desc("RV [m/s]")
