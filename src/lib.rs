@@ -20,6 +20,7 @@ pub mod kepler;
 pub mod model;
 pub mod nbody;
 pub mod periodogram;
+pub mod report;
 pub mod stability;
 pub mod units;
 pub mod workflow;
