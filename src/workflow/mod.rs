@@ -4,5 +4,6 @@
 //! line is a thin layer over these.
 
 pub mod fitting;
+pub mod pictures;
 pub mod posterior;
 pub mod search;
