@@ -8,11 +8,12 @@ use apsidal::data::{Dataset, InstrumentLabel, TableSource, read_tables};
 use apsidal::fit::best_fit::FitSettings;
 use apsidal::periodogram::{GridSettings, PeelSettings};
 use apsidal::workflow::fitting::{FitReport, WorkflowError, fit_run};
+use apsidal::workflow::pictures;
 use apsidal::workflow::posterior::{PosteriorSettings, PosteriorSummary, sample_posterior};
 use apsidal::workflow::search::{SearchReport, SearchSettings, search};
 
 use super::args::{Cli, Command, PeriodogramArgs, RunArgs, SampleArgs};
-use super::output::{CliError, ensure_dir, write_report};
+use super::output::{CliError, ensure_dir, write_report, write_text};
 use super::progress::{SamplerProgress, bar};
 
 /// Default seed when neither the command line nor the run file gives one.
@@ -84,6 +85,9 @@ fn periodogram(cli: &Cli, a: &PeriodogramArgs) -> Result<(), CliError> {
     let dir = out_dir(cli, None);
     ensure_dir(&dir)?;
     write_report(&dir, "periodogram", &report)?;
+    let svg =
+        pictures::periodogram_picture(&report).map_err(|e| CliError::Internal(e.to_string()))?;
+    write_text(&dir.join("periodogram.svg"), &svg)?;
     say(cli, &periodogram_table(&report));
     say(cli, &format!("results in {}", dir.display()));
     Ok(())
@@ -114,8 +118,42 @@ fn fit(cli: &Cli, a: &RunArgs) -> Result<(), CliError> {
     let dir = out_dir(cli, Some(&run));
     ensure_dir(&dir)?;
     write_report(&dir, "fit", &report)?;
+    fit_pictures(&run, &data, &name, &report, &dir)?;
     say(cli, &fit_table(&report));
     say(cli, &format!("results in {}", dir.display()));
+    Ok(())
+}
+
+/// The RV picture with every fitted model, and the phase-folded signal of
+/// each planet from the Keplerian fit (when there is one).
+fn fit_pictures(
+    run: &RunFile,
+    data: &Dataset,
+    name: &str,
+    report: &FitReport,
+    dir: &Path,
+) -> Result<(), CliError> {
+    let internal = |e: String| CliError::Internal(e);
+    let mut models = Vec::new();
+    for f in &report.fits {
+        let m = apsidal::config::build_model(run, data, f.kind, name)
+            .map_err(|e| internal(e.to_string()))?;
+        models.push((m, f.fit.values.clone()));
+    }
+    let pairs: Vec<(&apsidal::fit::models::RvModel, &[f64])> =
+        models.iter().map(|(m, v)| (m, v.as_slice())).collect();
+    if !pairs.is_empty() {
+        let svg = pictures::rv_picture(&pairs, "BJD").map_err(|e| internal(e.to_string()))?;
+        write_text(&dir.join("rv.svg"), &svg)?;
+    }
+    if let Some((m, v)) = models
+        .iter()
+        .find(|(m, _)| m.kind == apsidal::fit::models::ModelKind::Keplerian)
+    {
+        for (planet, svg) in pictures::phase_pictures(m, v).map_err(|e| internal(e.to_string()))? {
+            write_text(&dir.join(format!("phase-{planet}.svg")), &svg)?;
+        }
+    }
     Ok(())
 }
 
@@ -194,9 +232,46 @@ fn sample(cli: &Cli, a: &SampleArgs) -> Result<(), CliError> {
     .map_err(|e| CliError::Internal(e.to_string()))?;
     pb.finish_and_clear();
     write_report(&dir, "posterior", &summary)?;
+    posterior_pictures(&summary, &dir)?;
     say(cli, &posterior_table(&summary));
     say(cli, &format!("results in {}", dir.display()));
     Ok(())
+}
+
+/// Histograms and a pair plot of the sampled free parameters.
+fn posterior_pictures(summary: &PosteriorSummary, dir: &Path) -> Result<(), CliError> {
+    let text = std::fs::read_to_string(dir.join("samples.csv"))
+        .map_err(|e| CliError::Internal(e.to_string()))?;
+    let wanted: Vec<&str> = summary
+        .autocorrelation_times
+        .iter()
+        .map(|(n, _)| n.as_str())
+        .collect();
+    let cols: Vec<(String, String, Vec<f64>)> = pictures::read_sample_columns(&text, &wanted)
+        .into_iter()
+        .map(|(n, v)| {
+            let unit = unit_of(&n).to_string();
+            (n, unit, v)
+        })
+        .collect();
+    let (hist, pairs) =
+        pictures::posterior_pictures(&cols).map_err(|e| CliError::Internal(e.to_string()))?;
+    write_text(&dir.join("posterior-histograms.svg"), &hist)?;
+    write_text(&dir.join("posterior-pairs.svg"), &pairs)?;
+    Ok(())
+}
+
+/// Unit of a parameter from its name.
+fn unit_of(name: &str) -> &'static str {
+    let field = name.rsplit('.').next().unwrap_or(name);
+    match field {
+        "period" => "d",
+        "semi_amplitude" | "offset" | "jitter" => "m/s",
+        "mean_longitude" | "inclination" | "node_difference" => "deg",
+        "slope" => "m/s/d",
+        "curvature" => "m/s/d²",
+        _ => "",
+    }
 }
 
 /// Posterior intervals as a short table.
