@@ -4,6 +4,7 @@
 //! line is a thin layer over these.
 
 pub mod fitting;
+pub mod job;
 pub mod pictures;
 pub mod posterior;
 pub mod search;

@@ -1,0 +1,284 @@
+//! The whole job on one system, as one library call: periodogram →
+//! Keplerian fit → dynamical fit → a short posterior run → pictures, with
+//! every result written atomically into an output folder, and a summary
+//! for people. (The comparison and stability steps join it as they are
+//! wired in; each step's report is also available on its own.)
+
+use std::path::{Path, PathBuf};
+
+use serde::{Deserialize, Serialize};
+
+use crate::atomic::write_atomic;
+use crate::config::{RunFile, build_model};
+use crate::data::Dataset;
+use crate::fit::best_fit::FitSettings;
+use crate::fit::models::{ModelKind, RvModel};
+use crate::fit::sample::Observer;
+use crate::periodogram::GridSettings;
+
+use super::fitting::{FitReport, WorkflowError, fit_run};
+use super::pictures::{
+    periodogram_picture, phase_pictures, posterior_pictures, read_sample_columns, rv_picture,
+};
+use super::posterior::{PosteriorSettings, PosteriorSummary, sample_posterior};
+use super::search::{SearchReport, SearchSettings, search};
+
+/// Settings of the whole job.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct JobSettings {
+    /// Periodogram search.
+    pub search: SearchSettings,
+    /// Maximum-likelihood fits.
+    pub fit: FitSettings,
+    /// Posterior run (of the last model of the run file).
+    pub posterior: PosteriorSettings,
+}
+
+impl JobSettings {
+    /// Defaults for a run file: its sampler section (or a short run of
+    /// 600 steps) and its seed.
+    pub fn for_run(run: &RunFile, seed: u64) -> Self {
+        let s = run.sampler;
+        JobSettings {
+            search: SearchSettings {
+                grid: GridSettings {
+                    shortest_period: Some(2.0),
+                    ..GridSettings::default()
+                },
+                ..SearchSettings::default()
+            },
+            fit: FitSettings::default(),
+            posterior: PosteriorSettings {
+                walkers: s.and_then(|s| s.walkers),
+                steps: s.map_or(600, |s| s.steps),
+                burn_in: s.and_then(|s| s.burn_in),
+                thin: s.and_then(|s| s.thin).unwrap_or(1),
+                checkpoint_every: s.and_then(|s| s.checkpoint_every).unwrap_or(50),
+                seed,
+            },
+        }
+    }
+}
+
+/// Why the job failed, with the step.
+#[derive(Debug, thiserror::Error)]
+pub enum JobError {
+    /// The periodogram failed.
+    #[error("periodogram: {0}")]
+    Search(#[from] crate::periodogram::PeriodogramError),
+    /// A fit failed.
+    #[error(transparent)]
+    Fit(#[from] WorkflowError),
+    /// The posterior run failed.
+    #[error("posterior: {0}")]
+    Posterior(#[from] crate::fit::sample::SampleError),
+    /// A file could not be written.
+    #[error("{path}: {why}")]
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// Why.
+        why: String,
+    },
+}
+
+/// Everything the job produced.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct JobReport {
+    /// Name of the system (the star's, or the run file's).
+    pub system: String,
+    /// The periodogram search.
+    pub search: SearchReport,
+    /// The fits.
+    pub fits: FitReport,
+    /// The posterior summary of the last model.
+    pub posterior: PosteriorSummary,
+    /// Files written, relative to the output folder.
+    pub files: Vec<String>,
+}
+
+/// Write `value` as `<stem>.ron` and `<stem>.json` in `dir`.
+pub fn write_ron_json<T: Serialize>(
+    dir: &Path,
+    stem: &str,
+    value: &T,
+    files: &mut Vec<String>,
+) -> Result<(), JobError> {
+    let fail = |path: PathBuf, why: String| JobError::Write { path, why };
+    let ron = ron::ser::to_string_pretty(value, ron::ser::PrettyConfig::default())
+        .map_err(|e| fail(dir.join(format!("{stem}.ron")), e.to_string()))?;
+    let json = serde_json::to_string_pretty(value)
+        .map_err(|e| fail(dir.join(format!("{stem}.json")), e.to_string()))?;
+    for (ext, text) in [("ron", ron), ("json", json)] {
+        let name = format!("{stem}.{ext}");
+        write_file(dir, &name, text.as_bytes(), files)?;
+    }
+    Ok(())
+}
+
+/// Write one file atomically and remember its name.
+pub fn write_file(
+    dir: &Path,
+    name: &str,
+    bytes: &[u8],
+    files: &mut Vec<String>,
+) -> Result<(), JobError> {
+    let path = dir.join(name);
+    write_atomic(&path, bytes).map_err(|e| JobError::Write {
+        path: path.clone(),
+        why: e.to_string(),
+    })?;
+    files.push(name.to_string());
+    Ok(())
+}
+
+/// Run the whole job on `run` and its `data`, writing into `out`.
+/// `observers` watch the posterior run (progress display).
+pub fn run_job(
+    run: &RunFile,
+    data: &Dataset,
+    name: &str,
+    out: &Path,
+    settings: &JobSettings,
+    observers: &mut [&mut dyn Observer],
+) -> Result<JobReport, JobError> {
+    std::fs::create_dir_all(out).map_err(|e| JobError::Write {
+        path: out.to_path_buf(),
+        why: e.to_string(),
+    })?;
+    let mut files = Vec::new();
+    let search_report = search(data, &settings.search)?;
+    write_ron_json(out, "periodogram", &search_report, &mut files)?;
+    let svg = periodogram_picture(&search_report).map_err(|e| JobError::Write {
+        path: out.join("periodogram.svg"),
+        why: e.to_string(),
+    })?;
+    write_file(out, "periodogram.svg", svg.as_bytes(), &mut files)?;
+
+    let fits = fit_run(run, data, name, &settings.fit)?;
+    write_ron_json(out, "fit", &fits, &mut files)?;
+    let models: Vec<(RvModel, Vec<f64>)> = fits
+        .fits
+        .iter()
+        .map(|f| build_model(run, data, f.kind, name).map(|m| (m, f.fit.values.clone())))
+        .collect::<Result<_, _>>()
+        .map_err(WorkflowError::from)?;
+    let pairs: Vec<(&RvModel, &[f64])> = models.iter().map(|(m, v)| (m, v.as_slice())).collect();
+    let picture_err = |n: &str, e: String| JobError::Write {
+        path: out.join(n),
+        why: e,
+    };
+    let svg = rv_picture(&pairs, "BJD").map_err(|e| picture_err("rv.svg", e.to_string()))?;
+    write_file(out, "rv.svg", svg.as_bytes(), &mut files)?;
+    if let Some((m, v)) = models.iter().find(|(m, _)| m.kind == ModelKind::Keplerian) {
+        for (planet, svg) in
+            phase_pictures(m, v).map_err(|e| picture_err("phase", e.to_string()))?
+        {
+            write_file(
+                out,
+                &format!("phase-{planet}.svg"),
+                svg.as_bytes(),
+                &mut files,
+            )?;
+        }
+    }
+
+    let (last_model, _) = models
+        .last()
+        .ok_or_else(|| picture_err("fit", "no model fitted".into()))?;
+    let last_fit = &fits.fits[fits.fits.len() - 1].fit;
+    let posterior = sample_posterior(
+        last_model,
+        last_fit,
+        &settings.posterior,
+        &out.join("checkpoint.ron"),
+        &out.join("samples.csv"),
+        false,
+        observers,
+    )?;
+    files.push("checkpoint.ron".into());
+    files.push("samples.csv".into());
+    write_ron_json(out, "posterior", &posterior, &mut files)?;
+    let csv = std::fs::read_to_string(out.join("samples.csv"))
+        .map_err(|e| picture_err("samples.csv", e.to_string()))?;
+    let wanted: Vec<&str> = posterior
+        .autocorrelation_times
+        .iter()
+        .map(|(n, _)| n.as_str())
+        .collect();
+    let cols: Vec<(String, String, Vec<f64>)> = read_sample_columns(&csv, &wanted)
+        .into_iter()
+        .map(|(n, v)| (n, String::new(), v))
+        .collect();
+    let (hist, pairs_svg) =
+        posterior_pictures(&cols).map_err(|e| picture_err("posterior", e.to_string()))?;
+    write_file(out, "posterior-histograms.svg", hist.as_bytes(), &mut files)?;
+    write_file(out, "posterior-pairs.svg", pairs_svg.as_bytes(), &mut files)?;
+
+    let system = run.star.name.clone().unwrap_or_else(|| name.to_string());
+    let report = JobReport {
+        system,
+        search: search_report,
+        fits,
+        posterior,
+        files: files.clone(),
+    };
+    let mut dummy = Vec::new();
+    write_ron_json(out, "job", &report, &mut dummy)?;
+    Ok(report)
+}
+
+/// A concise summary of the job for people.
+pub fn job_summary(r: &JobReport) -> String {
+    let mut s = format!("system {}\n", r.system);
+    s += &format!(
+        "periodogram: {} signal(s): {}\n",
+        r.search.detections.len(),
+        r.search
+            .detections
+            .iter()
+            .map(|d| format!("{:.3} d", d.period))
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    for f in &r.fits.fits {
+        s += &format!(
+            "{:<18} ln L {:>10.2}  BIC {:>9.2}  {}\n",
+            super::pictures::kind_label(f.kind),
+            f.fit.ln_likelihood,
+            f.fit.bic,
+            if f.fit.converged {
+                "converged"
+            } else {
+                "not converged"
+            }
+        );
+    }
+    let p = &r.posterior;
+    s += &format!(
+        "posterior ({}): {} walkers × {} steps, acceptance {:.2}{}\n",
+        super::pictures::kind_label(p.kind),
+        p.walkers,
+        p.steps,
+        p.acceptance,
+        if p.converged {
+            ""
+        } else {
+            ", shorter than 50 τ (a demo-length run)"
+        }
+    );
+    for i in p
+        .intervals
+        .iter()
+        .filter(|i| i.name.ends_with("mass_jupiter") || i.name == "sin_i")
+    {
+        s += &format!(
+            "  {:<28} {:.4} (+{:.4} / −{:.4})\n",
+            i.name,
+            i.median,
+            i.upper_68 - i.median,
+            i.median - i.lower_68
+        );
+    }
+    s.trim_end().to_string()
+}
