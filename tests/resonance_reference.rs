@@ -211,6 +211,32 @@ fn neptune_pluto_three_to_two() {
     assert!(within(lib.centre_deg, 180.0, 0.2), "{lib:?}");
     assert!(within(lib.amplitude_deg, 80.0, 0.2), "{lib:?}");
     assert!(within(period, 2.0e4, 0.2), "{lib:?}");
+    // The default frame (invariable plane, 1.6° from the ecliptic) gives the
+    // same diagnosis.
+    let inv = diagnose(
+        &sys,
+        &DiagnosisSettings {
+            history: HistorySettings {
+                frame: ElementFrame::Invariable,
+                ..settings.history
+            },
+        },
+        |_| {},
+    )
+    .unwrap();
+    let b = inv.pairs[3].best.as_ref().unwrap();
+    let li = b.libration;
+    eprintln!(
+        "invariable frame, {}: centre {:.1}°, amplitude {:.1}°, period {:.0} yr",
+        b.label,
+        li.centre_deg,
+        li.amplitude_deg,
+        li.period.unwrap().years
+    );
+    assert_eq!(b.spec, best.spec);
+    assert!(within(li.centre_deg, 180.0, 0.2), "{li:?}");
+    assert!(within(li.amplitude_deg, 80.0, 0.2), "{li:?}");
+    assert!(within(li.period.unwrap().years, 2.0e4, 0.2), "{li:?}");
     // The diagnosis serialises and reads back unchanged.
     let json = serde_json::to_string(&d).unwrap();
     let back: ResonanceDiagnosis = serde_json::from_str(&json).unwrap();
@@ -399,8 +425,16 @@ fn synthetic_wide_pair_is_not_resonant() {
         (dt - 1.0 / (1.0 / 50.0 - 2.0 / 365.0) / 8.0).abs() < 1e-9,
         "{dt}"
     );
-    let d = diagnose(&sys, &settings, |_| {}).unwrap();
+    let mut fractions = Vec::new();
+    let d = diagnose(&sys, &settings, |f| fractions.push(f)).unwrap();
+    eprintln!(
+        "span {:.0} yr, {} samples, {} stages, end {:?}",
+        d.span.years, d.samples, d.stages, d.end
+    );
     print_pairs(&d);
+    // Progress: fractions in [0, 1], ending at 1.
+    assert!(fractions.iter().all(|f| (0.0..=1.0).contains(f)));
+    assert_eq!(fractions.last(), Some(&1.0));
     let p = &d.pairs[0];
     let s = p.summary.as_ref().unwrap();
     assert_eq!(p.verdict, PairVerdict::NotNear);
@@ -417,4 +451,38 @@ fn synthetic_wide_pair_is_not_resonant() {
             );
         }
     }
+}
+
+/// Two Jupiter-mass planets at P₂/P₁ = 1.05, far inside the Hill-stability
+/// limit (Δ > 2√3 mutual Hill radii, Gladman 1993, from memory): a close
+/// encounter within one mutual Hill radius stops the run, and the history
+/// ends before it with a typed [`RunEnd::Stopped`].
+#[test]
+fn close_encounter_stops_the_run() {
+    let m = 1e-3;
+    let sys = System::from_jacobi_elements(
+        1.0,
+        0.0,
+        &[
+            planet(m, 100.0, 0.0, 0.0, 0.0),
+            planet(m, 105.0, 0.0, 0.0, 180.0),
+        ],
+        0.0,
+    )
+    .unwrap();
+    let run = record_history(&sys, &HistorySettings::default(), |_| {}).unwrap();
+    let RunEnd::Stopped(event) = run.end else {
+        panic!("not stopped: {:?}", run.end);
+    };
+    eprintln!("{event:?} after {} samples", run.history.times_d.len());
+    assert!(matches!(
+        event,
+        apsidal::nbody::Event::CloseEncounter { i: 1, j: 2, .. }
+    ));
+    let last = *run.history.times_d.last().unwrap();
+    assert!(last <= event.time() && event.time() < last + run.output_interval_d);
+    assert!(run.pair_summaries.is_empty());
+    let d = diagnose_run(&run);
+    assert_eq!(d.end, run.end);
+    assert_eq!(d.pairs.len(), 1);
 }
