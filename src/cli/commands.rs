@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-use apsidal::config::{RunFile, load_run_file};
+use apsidal::config::{FieldPath, RunFile, SetupError, load_run_file};
 use apsidal::data::{Dataset, InstrumentLabel, TableSource, read_tables};
 use apsidal::fit::best_fit::FitSettings;
 use apsidal::periodogram::{GridSettings, PeelSettings};
@@ -50,11 +50,29 @@ fn load_run(path: &Path) -> Result<(RunFile, Dataset), CliError> {
     Ok((run, data))
 }
 
-fn workflow_error(e: WorkflowError) -> CliError {
+fn workflow_error(e: WorkflowError, run: &Path) -> CliError {
     match e {
-        WorkflowError::Setup(_) => CliError::BadInput(e.to_string()),
+        WorkflowError::Setup(s) => setup_error(s, run),
         _ => CliError::Internal(e.to_string()),
     }
+}
+
+/// A model set-up error as bad input, with the line and column of the
+/// prior override at fault when there is one (hardening: the set-up
+/// errors named the file and field but not the line).
+fn setup_error(e: SetupError, run: &Path) -> CliError {
+    let name = run.display().to_string();
+    let text = e.to_string();
+    if let SetupError::UnknownParameter { index, .. } = &e {
+        let field = FieldPath::parse_simple(&format!("fit.priors[{index}].parameter"));
+        if let (Some((line, column)), Some(rest)) = (
+            apsidal::config::field_position(run, &field),
+            text.strip_prefix(&format!("{name}: ")),
+        ) {
+            return CliError::BadInput(format!("{name}:{line}:{column}: {rest}"));
+        }
+    }
+    CliError::BadInput(text)
 }
 
 fn periodogram(cli: &Cli, a: &PeriodogramArgs) -> Result<(), CliError> {
@@ -114,7 +132,8 @@ pub fn periodogram_table(r: &SearchReport) -> String {
 fn fit(cli: &Cli, a: &RunArgs) -> Result<(), CliError> {
     let (run, data) = load_run(&a.run)?;
     let name = a.run.display().to_string();
-    let report = fit_run(&run, &data, &name, &FitSettings::default()).map_err(workflow_error)?;
+    let report = fit_run(&run, &data, &name, &FitSettings::default())
+        .map_err(|e| workflow_error(e, &a.run))?;
     let dir = out_dir(cli, Some(&run));
     ensure_dir(&dir)?;
     write_report(&dir, "fit", &report)?;
@@ -198,14 +217,15 @@ pub fn fit_table(r: &FitReport) -> String {
 fn sample(cli: &Cli, a: &SampleArgs) -> Result<(), CliError> {
     let (run, data) = load_run(&a.run)?;
     let name = a.run.display().to_string();
-    let report = fit_run(&run, &data, &name, &FitSettings::default()).map_err(workflow_error)?;
+    let report = fit_run(&run, &data, &name, &FitSettings::default())
+        .map_err(|e| workflow_error(e, &a.run))?;
     let Some(last) = report.fits.last() else {
         return Err(CliError::BadInput(format!(
             "{name}: fit.models lists no model to sample"
         )));
     };
     let model = apsidal::config::build_model(&run, &data, last.kind, &name)
-        .map_err(|e| CliError::BadInput(e.to_string()))?;
+        .map_err(|e| setup_error(e, &a.run))?;
     let section = run.sampler;
     let steps = a.steps.or(section.map(|s| s.steps)).unwrap_or(2000);
     let settings = PosteriorSettings {

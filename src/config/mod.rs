@@ -203,3 +203,14 @@ impl RunFile {
         crate::data::read_tables(&self.table_sources(), self.instruments.as_deref())
     }
 }
+
+/// 1-based (line, column) of a field of the run file at `path` (e.g.
+/// `fit.priors[1].parameter`), for messages about errors found after
+/// loading (model set-up); `None` if the file cannot be read or the field
+/// is not written in it.
+pub fn field_position(path: impl AsRef<Path>, field: &FieldPath) -> Option<(usize, usize)> {
+    let bytes = std::fs::read(path).ok()?;
+    let text = std::str::from_utf8(&bytes).ok()?;
+    let entries = locate::scan(text);
+    locate::find(&entries, field).map(|e| locate::line_col(text, e.start))
+}

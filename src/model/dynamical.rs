@@ -107,6 +107,17 @@ pub struct DynamicalModel {
     pub post_newtonian: bool,
 }
 
+/// Largest number of integrator steps one call of
+/// [`DynamicalModel::star_rv`] may take (both directions from t_ref
+/// together). A call that would need more is refused with
+/// [`DynamicalError::TooMuchWork`] before integrating, so that one
+/// evaluation inside a fit or a sampler is bounded in time (about a second
+/// for two planets). Wisdom–Holman: the exact count, span / step. Gauss–
+/// Radau: estimated with the Wisdom–Holman default step (P_min/20 scaled
+/// for the pericentre passage), which its adaptive steps exceed on
+/// well-separated orbits.
+pub const MAX_STEPS_PER_EVALUATION: f64 = 2.0e6;
+
 /// Why the model could not be evaluated (the likelihood is then −∞ with
 /// this reason; DESIGN §3).
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -120,6 +131,21 @@ pub enum DynamicalError {
     /// The integration failed or stopped on an event.
     #[error(transparent)]
     Nbody(#[from] NbodyError),
+    /// The epochs span too many steps of the integrator
+    /// ([`MAX_STEPS_PER_EVALUATION`]).
+    #[error(
+        "the epochs span {span:.1} d, {steps:.3e} integrator steps of {step:.4e} d, more than the limit of {limit:.1e} per evaluation; use a longer step or fewer epochs"
+    )]
+    TooMuchWork {
+        /// Days from the earliest to the latest of t_ref and the epochs.
+        span: f64,
+        /// The step, days.
+        step: f64,
+        /// Steps needed.
+        steps: f64,
+        /// The limit.
+        limit: f64,
+    },
 }
 
 /// Preallocated buffers of the dynamical model.
@@ -290,6 +316,11 @@ impl DynamicalModel {
             ws.snap = Snapshot::zeros(nb, self.t_ref);
         }
         let split = ws.order.partition_point(|&i| epochs[i] < self.t_ref);
+        let (first, last) = match (ws.order.first(), ws.order.last()) {
+            (Some(&a), Some(&b)) => (epochs[a].min(self.t_ref), epochs[b].max(self.t_ref)),
+            _ => (self.t_ref, self.t_ref),
+        };
+        let span = last - first;
         match self.integrator {
             IntegratorChoice::WisdomHolman { step, corrector } => {
                 let settings = WhSettings {
@@ -306,6 +337,7 @@ impl DynamicalModel {
                     }
                     None => ws.wh.insert(WisdomHolman::new(&ws.system, settings)?),
                 };
+                check_work(span, wh.step())?;
                 sample_star_vz(wh, epochs, &ws.order[split..], &mut ws.snap, out)?;
                 if split > 0 {
                     wh.reset(&ws.system, step)?;
@@ -324,6 +356,15 @@ impl DynamicalModel {
                     initial_step: None,
                     events: self.events,
                 };
+                let probe = WisdomHolman::new(
+                    &ws.system,
+                    WhSettings {
+                        step: None,
+                        corrector: Corrector::Off,
+                        events: self.events,
+                    },
+                )?;
+                check_work(span, probe.step())?;
                 let mut gr = GaussRadau::new(ws.system.clone(), settings)?;
                 sample_star_vz(&mut gr, epochs, &ws.order[split..], &mut ws.snap, out)?;
                 if split > 0 {
@@ -345,6 +386,20 @@ impl DynamicalModel {
         }
         Ok(())
     }
+}
+
+/// Refuse an evaluation of more than [`MAX_STEPS_PER_EVALUATION`] steps.
+fn check_work(span: f64, step: f64) -> Result<(), DynamicalError> {
+    let steps = span / step.abs();
+    if steps > MAX_STEPS_PER_EVALUATION || !steps.is_finite() {
+        return Err(DynamicalError::TooMuchWork {
+            span,
+            step: step.abs(),
+            steps,
+            limit: MAX_STEPS_PER_EVALUATION,
+        });
+    }
+    Ok(())
 }
 
 /// Sort epoch indices by time into `ws.order`, skipping the sort when the
