@@ -17,9 +17,11 @@ use serde::{Deserialize, Serialize};
 use super::likelihood::{chi_square, ln_likelihood};
 use super::params::{ParamError, ParameterSet, ecc_omega_from_sqrt_basis};
 use crate::model::dynamical::{
-    DynamicalModel, DynamicalParams, DynamicalPlanet, DynamicalWorkspace, Trend as DynTrend,
+    DynamicalModel, DynamicalParams, DynamicalPlanet, DynamicalWorkspace, IntegratorChoice,
+    Trend as DynTrend,
 };
 use crate::model::keplerian::{KeplerianParams, PlanetSignal, Trend, keplerian_model_rv};
+use crate::nbody::wisdom_holman::{WhSettings, WisdomHolman};
 
 thread_local! {
     /// One dynamical-model workspace per thread: repeated evaluations
@@ -336,27 +338,7 @@ impl RvModel {
                     .map_err(|e| ModelError::Evaluation(e.to_string()))
             }
             _ => {
-                let (c1, c2) = self.trend_of(full).coefficients();
-                let params = DynamicalParams {
-                    star_mass: self.star_mass,
-                    planets: planets
-                        .iter()
-                        .map(|p| DynamicalPlanet {
-                            period: p.period,
-                            k: p.semi_amplitude,
-                            e: p.eccentricity,
-                            omega_star: p.omega_star,
-                            mean_anomaly: p.mean_anomaly,
-                            inc: p.inclination,
-                            delta_node: p.node,
-                        })
-                        .collect(),
-                    offsets: self.offsets_of(full),
-                    trend: DynTrend {
-                        linear: c1,
-                        quadratic: c2,
-                    },
-                };
+                let params = self.dynamical_params(full, &planets);
                 DYNAMICAL_WORKSPACE.with(|ws| {
                     let mut ws = ws.borrow_mut();
                     self.dynamics
@@ -365,6 +347,82 @@ impl RvModel {
                 })
             }
         }
+    }
+
+    /// The dynamical-model parameters of a full vector with its decoded
+    /// planets.
+    fn dynamical_params(&self, full: &[f64], planets: &[DecodedPlanet]) -> DynamicalParams {
+        let (c1, c2) = self.trend_of(full).coefficients();
+        DynamicalParams {
+            star_mass: self.star_mass,
+            planets: planets
+                .iter()
+                .map(|p| DynamicalPlanet {
+                    period: p.period,
+                    k: p.semi_amplitude,
+                    e: p.eccentricity,
+                    omega_star: p.omega_star,
+                    mean_anomaly: p.mean_anomaly,
+                    inc: p.inclination,
+                    delta_node: p.node,
+                })
+                .collect(),
+            offsets: self.offsets_of(full),
+            trend: DynTrend {
+                linear: c1,
+                quadratic: c2,
+            },
+        }
+    }
+
+    /// For a dynamical model whose Wisdom–Holman step is automatic, the
+    /// step (d) the integrator picks for the system at `full` (the
+    /// integrator's default rule, [`crate::nbody::wisdom_holman`]); `None`
+    /// for the Keplerian model, a given step or Gauss–Radau.
+    pub fn automatic_wh_step(&self, full: &[f64]) -> Result<Option<f64>, ModelError> {
+        let IntegratorChoice::WisdomHolman {
+            step: None,
+            corrector,
+        } = self.dynamics.integrator
+        else {
+            return Ok(None);
+        };
+        if self.kind == ModelKind::Keplerian {
+            return Ok(None);
+        }
+        let planets = self.decode_planets(full)?;
+        let params = self.dynamical_params(full, &planets);
+        let eval = |e: String| ModelError::Evaluation(e);
+        let mut ws = DynamicalWorkspace::default();
+        self.dynamics
+            .build_system(&params, &mut ws)
+            .map_err(|e| eval(e.to_string()))?;
+        let settings = WhSettings {
+            step: None,
+            corrector,
+            events: self.dynamics.events,
+        };
+        let wh = WisdomHolman::new(ws.system(), settings).map_err(|e| eval(e.to_string()))?;
+        Ok(Some(wh.step()))
+    }
+
+    /// A copy of the model whose automatic Wisdom–Holman step is resolved
+    /// at `full` and then held fixed (unchanged copy otherwise). With the
+    /// automatic rule the step follows the parameters, so the number of
+    /// steps to an epoch jumps as they move and the likelihood is only
+    /// piecewise continuous (jumps of the size of the integration error);
+    /// a fixed step keeps it smooth for derivatives and optimisers.
+    pub fn with_fixed_wh_step(&self, full: &[f64]) -> Result<RvModel, ModelError> {
+        let mut out = self.clone();
+        if let (Some(h), IntegratorChoice::WisdomHolman { corrector, .. }) =
+            (self.automatic_wh_step(full)?, self.dynamics.integrator)
+        {
+            out.dynamics.integrator = IntegratorChoice::WisdomHolman {
+                step: Some(h),
+                corrector,
+            };
+        }
+        Ok(out)
     }
 
     /// Residuals data − model (m/s) into `out`.
