@@ -52,6 +52,97 @@ pub enum Command {
         after_help = "Example:\n  apsidal sample demo-data/tellan/run.ron --out post --steps 2000\n  apsidal sample demo-data/tellan/run.ron --out post --steps 4000 --resume"
     )]
     Sample(SampleArgs),
+    /// Orbital stability of the fitted solution of a run file (last model),
+    /// or a survey of the posterior samples of a samples CSV (parallel,
+    /// shardable with --shard k/n, resumable).
+    #[command(
+        after_help = "Examples:\n  apsidal stability run.ron --out stab --orbits 10000\n  apsidal stability run.ron --out stab --samples post/samples.csv --max-samples 500 --orbits 5000\n  apsidal stability run.ron --out stab --samples post/samples.csv --shard 0/4 --resume"
+    )]
+    Stability(StabilityArgs),
+    /// A stability map over a grid of two elements of the fitted solution,
+    /// written as map.csv.
+    #[command(
+        after_help = "Example:\n  apsidal map run.ron --out map --x 2.period:80:90:21 --y 2.eccentricity:0:0.4:21 --indicator survival --orbits 2000\n\nAxes are PLANET.ELEMENT:MIN:MAX:N, planets numbered from 1 (innermost); elements: period, semi_major_axis, eccentricity, mass_jupiter, inclination, omega_star. Indicators: survival, max-e, drift."
+    )]
+    Map(MapArgs),
+    /// Merge the tables of a sharded survey into the table the unsharded
+    /// survey writes (survey.csv and survey-summary in --out).
+    #[command(
+        after_help = "Example:\n  apsidal merge --out stab stab/survey-shard-0-of-4.csv stab/survey-shard-1-of-4.csv stab/survey-shard-2-of-4.csv stab/survey-shard-3-of-4.csv"
+    )]
+    Merge(MergeArgs),
+}
+
+/// Settings of one stability run shared by `stability` and `map`.
+#[derive(Debug, Args)]
+pub struct RunLengthArgs {
+    /// Length in orbits of the outermost planet.
+    #[arg(long, default_value_t = 10000.0)]
+    pub orbits: f64,
+    /// Wisdom–Holman step in days (default: the integrator's).
+    #[arg(long)]
+    pub step: Option<f64>,
+    /// Close-encounter threshold in mutual Hill radii.
+    #[arg(long, default_value_t = 1.0)]
+    pub hill_radii: f64,
+    /// Largest number of steps of one run.
+    #[arg(long, default_value_t = 100_000_000)]
+    pub max_steps: u64,
+}
+
+/// Arguments of `stability`.
+#[derive(Debug, Args)]
+pub struct StabilityArgs {
+    /// The RON run file (its last model defines the parameters).
+    pub run: PathBuf,
+    /// Survey these posterior samples instead of the fitted solution.
+    #[arg(long)]
+    pub samples: Option<PathBuf>,
+    /// Survey at most this many samples (a seeded choice).
+    #[arg(long)]
+    pub max_samples: Option<usize>,
+    /// Run shard k of n (0-based), e.g. 3/8; output survey-shard-k-of-n.csv.
+    #[arg(long)]
+    pub shard: Option<String>,
+    /// Keep the rows already in the output table and run the rest.
+    #[arg(long)]
+    pub resume: bool,
+    /// Confidence level of the interval on the stable fraction.
+    #[arg(long, default_value_t = 0.95)]
+    pub confidence: f64,
+    /// Run settings.
+    #[command(flatten)]
+    pub length: RunLengthArgs,
+}
+
+/// Arguments of `map`.
+#[derive(Debug, Args)]
+pub struct MapArgs {
+    /// The RON run file (its last model's fit is the base solution).
+    pub run: PathBuf,
+    /// Horizontal axis, PLANET.ELEMENT:MIN:MAX:N.
+    #[arg(long)]
+    pub x: String,
+    /// Vertical axis, PLANET.ELEMENT:MIN:MAX:N.
+    #[arg(long)]
+    pub y: String,
+    /// Indicator: survival, max-e or drift.
+    #[arg(long, default_value = "survival")]
+    pub indicator: String,
+    /// Run settings.
+    #[command(flatten)]
+    pub length: RunLengthArgs,
+}
+
+/// Arguments of `merge`.
+#[derive(Debug, Args)]
+pub struct MergeArgs {
+    /// Shard tables to merge.
+    #[arg(required = true)]
+    pub tables: Vec<PathBuf>,
+    /// Confidence level of the interval on the stable fraction.
+    #[arg(long, default_value_t = 0.95)]
+    pub confidence: f64,
 }
 
 /// Arguments of `periodogram`.

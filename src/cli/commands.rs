@@ -13,6 +13,7 @@ use apsidal::workflow::posterior::{PosteriorSettings, PosteriorSummary, sample_p
 use apsidal::workflow::search::{SearchReport, SearchSettings, search};
 
 use super::args::{Cli, Command, PeriodogramArgs, RunArgs, SampleArgs};
+use super::args::{MapArgs, MergeArgs, RunLengthArgs, StabilityArgs};
 use super::output::{CliError, ensure_dir, write_report, write_text};
 use super::progress::{SamplerProgress, bar};
 
@@ -25,6 +26,9 @@ pub fn dispatch(cli: &Cli) -> Result<(), CliError> {
         Command::Periodogram(a) => periodogram(cli, a),
         Command::Fit(a) => fit(cli, a),
         Command::Sample(a) => sample(cli, a),
+        Command::Stability(a) => stability(cli, a),
+        Command::Map(a) => map(cli, a),
+        Command::Merge(a) => merge(cli, a),
     }
 }
 
@@ -321,4 +325,237 @@ pub fn posterior_table(s: &PosteriorSummary) -> String {
         );
     }
     t.trim_end().to_string()
+}
+
+fn run_settings(a: &RunLengthArgs) -> apsidal::stability::run::RunSettings {
+    apsidal::stability::run::RunSettings {
+        orbits: a.orbits,
+        step: a.step,
+        hill_radii: a.hill_radii,
+        max_steps: a.max_steps,
+        ..Default::default()
+    }
+}
+
+fn last_kind(run: &RunFile, name: &str) -> Result<apsidal::fit::models::ModelKind, CliError> {
+    run.fit
+        .clone()
+        .unwrap_or_default()
+        .models
+        .last()
+        .copied()
+        .ok_or_else(|| CliError::BadInput(format!("{name}: fit.models lists no model")))
+}
+
+/// The model of the run file's last kind and its maximum-likelihood values.
+fn fitted(
+    run: &RunFile,
+    data: &Dataset,
+    name: &str,
+) -> Result<(apsidal::fit::models::RvModel, Vec<f64>), CliError> {
+    let report = fit_run(run, data, name, &FitSettings::default())
+        .map_err(|e| workflow_error(e, Path::new(name)))?;
+    let Some(last) = report.fits.last() else {
+        return Err(CliError::BadInput(format!(
+            "{name}: fit.models lists no model"
+        )));
+    };
+    let model = apsidal::config::build_model(run, data, last.kind, name)
+        .map_err(|e| CliError::BadInput(e.to_string()))?;
+    Ok((model, last.fit.values.clone()))
+}
+
+fn stability(cli: &Cli, a: &StabilityArgs) -> Result<(), CliError> {
+    use apsidal::stability::run::{run_solution, settings_for_model};
+    use apsidal::stability::survey::{SurveySettings, read_samples_csv, run_survey};
+    let (run, data) = load_run(&a.run)?;
+    let name = a.run.display().to_string();
+    let dir = out_dir(cli, Some(&run));
+    ensure_dir(&dir)?;
+    let Some(samples) = &a.samples else {
+        let (model, values) = fitted(&run, &data, &name)?;
+        let settings = settings_for_model(&model, run_settings(&a.length));
+        let report = run_solution(&model, &values, &settings)
+            .map_err(|e| CliError::BadInput(e.to_string()))?;
+        write_report(&dir, "stability", &report)?;
+        say(
+            cli,
+            &format!(
+                "{}: survived {:.1} of {} orbits ({:.1} d), max e {:?}, max |Δa|/a {:?}, min spacing {:?} mutual Hill radii",
+                report.verdict.label(),
+                report.survival_orbits,
+                a.length.orbits,
+                report.survival_time,
+                report.max_eccentricity,
+                report.max_axis_drift,
+                report.min_hill_spacing()
+            ),
+        );
+        say(cli, &format!("results in {}", dir.display()));
+        return Ok(());
+    };
+    let model = apsidal::config::build_model(&run, &data, last_kind(&run, &name)?, &name)
+        .map_err(|e| CliError::BadInput(e.to_string()))?;
+    let table = read_samples_csv(samples).map_err(|e| CliError::BadInput(e.to_string()))?;
+    let shard = match &a.shard {
+        Some(s) => s
+            .parse()
+            .map_err(|e: apsidal::stability::survey::SurveyError| {
+                CliError::BadInput(e.to_string())
+            })?,
+        None => Default::default(),
+    };
+    let settings = SurveySettings {
+        run: settings_for_model(&model, run_settings(&a.length)),
+        max_samples: a.max_samples,
+        seed: cli.global.seed.or(run.seed).unwrap_or(DEFAULT_SEED),
+        shard,
+        confidence: a.confidence,
+        ..Default::default()
+    };
+    let stem = if a.shard.is_some() {
+        format!("survey-shard-{}-of-{}", shard.index, shard.count)
+    } else {
+        "survey".to_string()
+    };
+    let n = apsidal::stability::survey::shard_rows(
+        &apsidal::stability::survey::select_rows(table.rows.len(), a.max_samples, settings.seed),
+        shard,
+    )
+    .len();
+    let pb = bar(n as u64, "stability", cli.global.quiet);
+    let pb2 = pb.clone();
+    let summary = run_survey(
+        &model,
+        &table,
+        &model.params.start_full(),
+        &settings,
+        &dir.join(format!("{stem}.csv")),
+        a.resume,
+        &move |p| {
+            pb2.set_position(p.done as u64);
+            apsidal::fit::sample::Flow::Continue
+        },
+    )
+    .map_err(|e| match e {
+        apsidal::stability::survey::SurveyError::Write(_) => CliError::Internal(e.to_string()),
+        _ => CliError::BadInput(e.to_string()),
+    })?;
+    pb.finish_and_clear();
+    write_report(&dir, &format!("{stem}-summary"), &summary)?;
+    say(cli, &survey_line(&summary));
+    say(cli, &format!("results in {}", dir.display()));
+    Ok(())
+}
+
+fn survey_line(s: &apsidal::stability::survey::SurveySummary) -> String {
+    format!(
+        "{} of {} samples stable ({}), {:.0}% interval [{:.4}, {:.4}] (Clopper–Pearson); by verdict {:?}",
+        s.n_stable,
+        s.n_samples,
+        s.stable_fraction
+            .map_or("-".to_string(), |f| format!("{f:.4}")),
+        100.0 * s.interval.confidence,
+        s.interval.lower,
+        s.interval.upper,
+        s.by_verdict
+    )
+}
+
+fn parse_axis(s: &str, n_planets: usize) -> Result<apsidal::stability::map::Axis, CliError> {
+    let bad = |why: &str| {
+        CliError::BadInput(format!(
+            "axis `{s}`: {why} (expected PLANET.ELEMENT:MIN:MAX:N, e.g. 2.period:80:90:21)"
+        ))
+    };
+    let parts: Vec<&str> = s.split(':').collect();
+    if parts.len() != 4 {
+        return Err(bad("four parts separated by `:` needed"));
+    }
+    let (p, e) = parts[0]
+        .split_once('.')
+        .ok_or_else(|| bad("PLANET.ELEMENT needed"))?;
+    let planet: usize = p
+        .parse()
+        .map_err(|_| bad("planet must be a number from 1"))?;
+    if planet == 0 || planet > n_planets {
+        return Err(bad(&format!("the solution has planets 1 to {n_planets}")));
+    }
+    let element =
+        apsidal::stability::map::Element::from_name(e).ok_or_else(|| bad("unknown element"))?;
+    let num = |x: &str| x.parse::<f64>().ok().filter(|v| v.is_finite());
+    let (Some(min), Some(max)) = (num(parts[1]), num(parts[2])) else {
+        return Err(bad("MIN and MAX must be numbers"));
+    };
+    let n: usize = parts[3]
+        .parse()
+        .map_err(|_| bad("N must be a whole number"))?;
+    if n == 0 {
+        return Err(bad("N must be at least 1"));
+    }
+    Ok(apsidal::stability::map::Axis {
+        planet: planet - 1,
+        element,
+        min,
+        max,
+        n,
+    })
+}
+
+fn map(cli: &Cli, a: &MapArgs) -> Result<(), CliError> {
+    use apsidal::stability::map::{BaseSolution, Indicator, MapSettings, map_csv, stability_map};
+    let (run, data) = load_run(&a.run)?;
+    let name = a.run.display().to_string();
+    let indicator = Indicator::from_name(&a.indicator).ok_or_else(|| {
+        CliError::BadInput(format!(
+            "indicator `{}`: expected survival, max-e or drift",
+            a.indicator
+        ))
+    })?;
+    let (model, values) = fitted(&run, &data, &name)?;
+    let (star_mass, star_radius, planets, t_ref) =
+        apsidal::stability::run::solution_planets(&model, &values)
+            .map_err(|e| CliError::BadInput(e.to_string()))?;
+    let settings = MapSettings {
+        x: parse_axis(&a.x, planets.len())?,
+        y: parse_axis(&a.y, planets.len())?,
+        indicator,
+        run: apsidal::stability::run::settings_for_model(&model, run_settings(&a.length)),
+    };
+    let base = BaseSolution {
+        star_mass,
+        star_radius,
+        planets,
+        t_ref,
+    };
+    let dir = out_dir(cli, Some(&run));
+    ensure_dir(&dir)?;
+    let pb = bar(
+        (settings.x.n * settings.y.n) as u64,
+        "map",
+        cli.global.quiet,
+    );
+    let pb2 = pb.clone();
+    let m = stability_map(&base, &settings, &move |d| pb2.set_position(d as u64))
+        .map_err(|e| CliError::BadInput(e.to_string()))?;
+    pb.finish_and_clear();
+    write_text(&dir.join("map.csv"), &map_csv(&m))?;
+    let stable = m.cells.iter().filter(|c| c.verdict == "stable").count();
+    say(cli, &format!("{stable} of {} cells stable", m.cells.len()));
+    say(cli, &format!("results in {}", dir.display()));
+    Ok(())
+}
+
+fn merge(cli: &Cli, a: &MergeArgs) -> Result<(), CliError> {
+    use apsidal::stability::survey::{merge_tables, summarise};
+    let table = merge_tables(&a.tables).map_err(|e| CliError::BadInput(e.to_string()))?;
+    let dir = out_dir(cli, None);
+    ensure_dir(&dir)?;
+    write_text(&dir.join("survey.csv"), &table.to_csv())?;
+    let summary = summarise(&table, table.rows.len(), a.confidence)
+        .map_err(|e| CliError::BadInput(e.to_string()))?;
+    write_report(&dir, "survey-summary", &summary)?;
+    say(cli, &survey_line(&summary));
+    say(cli, &format!("results in {}", dir.display()));
+    Ok(())
 }

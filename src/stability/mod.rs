@@ -1,3 +1,6 @@
 //! Orbital stability: chaos indicators, events, analytic criteria, surveys and maps.
 
 pub mod criteria;
+pub mod map;
+pub mod run;
+pub mod survey;
