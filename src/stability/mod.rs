@@ -1,3 +1,4 @@
 //! Orbital stability: chaos indicators, events, analytic criteria, surveys and maps.
 
 pub mod criteria;
+pub mod megno;
