@@ -32,6 +32,15 @@
 //! evaluated from that step's polynomial, so `advance_to` never shortens a
 //! step and the trajectory does not depend on which epochs are asked for.
 //!
+//! Tangent vectors ([`super::variational`], [`Variational`]): the
+//! linearised equations δẍ = (∂a/∂x) δx (the tidal tensor,
+//! [`tidal_accelerations_flat`]) are integrated as extra coordinates
+//! appended after the 3N real ones, with the same step polynomial
+//! machinery, while the step size, the rejection test and the
+//! predictor–corrector convergence look at the real bodies only (as
+//! Rein & Tamayo 2016, MNRAS 459, 2275, §3 do for IAS15). Refused with the
+//! post-Newtonian term on (velocity-dependent; its Jacobian is not coded).
+//!
 //! Written by hand: no maintained crate provides IAS15 / Gauss–Radau with
 //! dense output and events, and the method is short enough to own.
 //!
@@ -46,6 +55,7 @@ use super::forces::{
 };
 use super::integrator::Integrator;
 use super::system::{Snapshot, System};
+use super::variational::{Tangent, Variational, tidal_accelerations_flat};
 use crate::units::G;
 
 /// Gauss–Radau spacings h₀ = 0, h₁…h₇ on [0, 1] (Everhart 1985, Table 1;
@@ -277,6 +287,27 @@ struct ForceBuffers {
 }
 
 impl ForceBuffers {
+    /// Accelerations of the real coordinates (the first `nr` = 3N) and of
+    /// `ntan` tangent blocks of `nr` coordinates each after them.
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    fn eval_all(
+        &mut self,
+        masses: &[f64],
+        post_newtonian: bool,
+        nr: usize,
+        ntan: usize,
+        x: &[f64],
+        v: &[f64],
+        out: &mut [f64],
+    ) {
+        self.eval(masses, post_newtonian, &x[..nr], &v[..nr], &mut out[..nr]);
+        for t in 1..=ntan {
+            let blk = t * nr..(t + 1) * nr;
+            tidal_accelerations_flat(masses, &x[..nr], &x[blk.clone()], &mut out[blk]);
+        }
+    }
+
     /// Accelerations (au/d², flat 3N) at flat positions/velocities.
     #[inline]
     fn eval(
@@ -335,6 +366,28 @@ fn corrector<const K: usize>(
     max_delta
 }
 
+/// The corrector for node `n` (1..7), dispatched to the unrolled forms.
+#[inline(always)]
+fn corrector_node(
+    n: usize,
+    inv: &[f64; 8],
+    c: &[f64; 7],
+    at: &[f64],
+    a0: &[f64],
+    g: &mut [[f64; 7]],
+    b: &mut [[f64; 7]],
+) -> f64 {
+    match n {
+        1 => corrector::<0>(inv, c, at, a0, g, b),
+        2 => corrector::<1>(inv, c, at, a0, g, b),
+        3 => corrector::<2>(inv, c, at, a0, g, b),
+        4 => corrector::<3>(inv, c, at, a0, g, b),
+        5 => corrector::<4>(inv, c, at, a0, g, b),
+        6 => corrector::<5>(inv, c, at, a0, g, b),
+        _ => corrector::<6>(inv, c, at, a0, g, b),
+    }
+}
+
 /// The 15th-order adaptive Gauss–Radau (IAS15-type) integrator of a
 /// [`System`] in barycentric inertial coordinates (au, au/day, days).
 ///
@@ -350,6 +403,11 @@ pub struct GaussRadau {
     post_newtonian: bool,
     settings: GaussRadauSettings,
     tables: Tables,
+    /// Number of real coordinates 3N and of tangent blocks after them.
+    nr: usize,
+    ntan: usize,
+    /// Tangent vectors at the last output.
+    out_tan: Vec<Tangent>,
     /// Time of the current step boundary and its compensation.
     t: f64,
     t_cs: f64,
@@ -483,6 +541,9 @@ impl GaussRadau {
             post_newtonian: system.post_newtonian,
             settings,
             tables: Tables::new(),
+            nr: n3,
+            ntan: 0,
+            out_tan: Vec::new(),
             t: s.t,
             t_cs: 0.0,
             x,
@@ -593,9 +654,12 @@ impl GaussRadau {
     /// when rejected), followed by the event checks.
     fn step(&mut self) -> Result<(), NbodyError> {
         let n3 = self.x.len();
-        self.forces.eval(
+        let (nr, ntan) = (self.nr, self.ntan);
+        self.forces.eval_all(
             &self.masses,
             self.post_newtonian,
+            nr,
+            ntan,
             &self.x,
             &self.v,
             &mut self.a0,
@@ -688,9 +752,11 @@ impl GaussRadau {
                             *vs = v + (vel_poly(dt, tau, a0, b) - cs);
                         }
                     }
-                    self.forces.eval(
+                    self.forces.eval_all(
                         &self.masses,
                         self.post_newtonian,
+                        nr,
+                        ntan,
                         &self.xs,
                         &self.vs,
                         &mut self.at,
@@ -698,18 +764,15 @@ impl GaussRadau {
                     let inv = &self.tables.inv[n];
                     let c = &self.tables.c[n - 1];
                     let (at, a0, g, b) = (&self.at, &self.a0, &mut self.g, &mut self.b);
-                    let md = match n {
-                        1 => corrector::<0>(inv, c, at, a0, g, b),
-                        2 => corrector::<1>(inv, c, at, a0, g, b),
-                        3 => corrector::<2>(inv, c, at, a0, g, b),
-                        4 => corrector::<3>(inv, c, at, a0, g, b),
-                        5 => corrector::<4>(inv, c, at, a0, g, b),
-                        6 => corrector::<5>(inv, c, at, a0, g, b),
-                        _ => corrector::<6>(inv, c, at, a0, g, b),
-                    };
+                    // Convergence is judged on the real bodies only.
+                    let md =
+                        corrector_node(n, inv, c, &at[..nr], &a0[..nr], &mut g[..nr], &mut b[..nr]);
+                    if ntan > 0 {
+                        corrector_node(n, inv, c, &at[nr..], &a0[nr..], &mut g[nr..], &mut b[nr..]);
+                    }
                     if n == 7 {
                         max_delta6 = md;
-                        max_at = at.iter().fold(0.0f64, |m, a| m.max(a.abs()));
+                        max_at = at[..nr].iter().fold(0.0f64, |m, a| m.max(a.abs()));
                     }
                 }
                 pc_err = if max_at > 0.0 {
@@ -731,8 +794,10 @@ impl GaussRadau {
                 let b6 = self.b[j][6];
                 let a = self.at[j];
                 finite &= b6.is_finite() && a.is_finite();
-                max_b6 = max_b6.max(b6.abs());
-                max_a = max_a.max(a.abs());
+                if j < nr {
+                    max_b6 = max_b6.max(b6.abs());
+                    max_a = max_a.max(a.abs());
+                }
             }
             if !finite {
                 return Err(NbodyError::NonFinite { t: self.t });
@@ -935,7 +1000,7 @@ impl GaussRadau {
     }
 
     /// Dense output: the last step's polynomial at time `t`.
-    fn dense(&self, t: f64, out: &mut Snapshot) {
+    fn dense(&mut self, t: f64, out: &mut Snapshot) {
         let dt = self.step_dt;
         let tau = (t - self.step_t0) / dt;
         let n = self.masses.len();
@@ -949,6 +1014,19 @@ impl GaussRadau {
             }
         }
         out.t = t;
+        let nr = self.nr;
+        for (k, tan) in self.out_tan.iter_mut().enumerate() {
+            let off = (k + 1) * nr;
+            for i in 0..n {
+                for c in 0..3 {
+                    let j = off + 3 * i + c;
+                    let b = &self.step_b[j];
+                    tan.pos[i][c] =
+                        self.step_x0[j] + pos_poly(dt, tau, self.step_v0[j], self.step_a0[j], b);
+                    tan.vel[i][c] = self.step_v0[j] + vel_poly(dt, tau, self.step_a0[j], b);
+                }
+            }
+        }
     }
 
     fn write_current(&self, out: &mut Snapshot) {
@@ -960,6 +1038,20 @@ impl GaussRadau {
             }
         }
         out.t = self.t;
+    }
+
+    /// Copy the current tangent coordinates into the output tangents.
+    fn write_current_tangents(&mut self) {
+        let (n, nr) = (self.masses.len(), self.nr);
+        for (k, tan) in self.out_tan.iter_mut().enumerate() {
+            let off = (k + 1) * nr;
+            for i in 0..n {
+                for c in 0..3 {
+                    tan.pos[i][c] = self.x[off + 3 * i + c] - self.csx[off + 3 * i + c];
+                    tan.vel[i][c] = self.v[off + 3 * i + c] - self.csv[off + 3 * i + c];
+                }
+            }
+        }
     }
 }
 
@@ -980,6 +1072,124 @@ fn default_initial_step(system: &System) -> f64 {
         tmin / 20.0
     } else {
         1.0
+    }
+}
+
+impl Variational for GaussRadau {
+    fn set_tangents(&mut self, tangents: &[Tangent]) -> Result<(), NbodyError> {
+        if self.post_newtonian {
+            return Err(NbodyError::InvalidRequest(
+                "tangent vectors are not available with the post-Newtonian term in Gauss–Radau"
+                    .into(),
+            ));
+        }
+        let n = self.masses.len();
+        if tangents
+            .iter()
+            .any(|t| t.pos.len() != n || t.vel.len() != n)
+        {
+            return Err(NbodyError::InvalidRequest(format!(
+                "every tangent vector needs {n} positions and velocities"
+            )));
+        }
+        if tangents.iter().any(|t| {
+            !t.pos
+                .iter()
+                .chain(&t.vel)
+                .all(|p| p.iter().all(|c| c.is_finite()))
+        }) {
+            return Err(NbodyError::InvalidRequest(
+                "tangent vectors must be finite".into(),
+            ));
+        }
+        let nr = self.nr;
+        let total = nr * (1 + tangents.len());
+        for a in [
+            &mut self.x,
+            &mut self.v,
+            &mut self.csx,
+            &mut self.csv,
+            &mut self.a0,
+            &mut self.at,
+            &mut self.xs,
+            &mut self.vs,
+            &mut self.step_x0,
+            &mut self.step_v0,
+            &mut self.step_a0,
+        ] {
+            a.truncate(nr);
+            a.resize(total, 0.0);
+        }
+        for a in [
+            &mut self.b,
+            &mut self.g,
+            &mut self.e,
+            &mut self.br,
+            &mut self.er,
+            &mut self.step_b,
+        ] {
+            a.truncate(nr);
+            a.resize(total, [0.0; 7]);
+        }
+        for (k, t) in tangents.iter().enumerate() {
+            let off = (k + 1) * nr;
+            for i in 0..n {
+                for c in 0..3 {
+                    self.x[off + 3 * i + c] = t.pos[i][c];
+                    self.v[off + 3 * i + c] = t.vel[i][c];
+                }
+            }
+        }
+        self.ntan = tangents.len();
+        self.out_tan = tangents.to_vec();
+        self.have_step = false;
+        Ok(())
+    }
+
+    fn tangent_count(&self) -> usize {
+        self.ntan
+    }
+
+    fn output_tangents(&self) -> &[Tangent] {
+        &self.out_tan
+    }
+
+    fn scale_tangent(&mut self, i: usize, factor: f64) {
+        if i >= self.ntan {
+            return;
+        }
+        let blk = (i + 1) * self.nr..(i + 2) * self.nr;
+        for a in [
+            &mut self.x,
+            &mut self.v,
+            &mut self.csx,
+            &mut self.csv,
+            &mut self.a0,
+            &mut self.at,
+            &mut self.step_x0,
+            &mut self.step_v0,
+            &mut self.step_a0,
+        ] {
+            for x in &mut a[blk.clone()] {
+                *x *= factor;
+            }
+        }
+        for a in [
+            &mut self.b,
+            &mut self.g,
+            &mut self.e,
+            &mut self.br,
+            &mut self.er,
+            &mut self.step_b,
+        ] {
+            for x in a[blk.clone()].iter_mut().flatten() {
+                *x *= factor;
+            }
+        }
+        let o = &mut self.out_tan[i];
+        for x in o.pos.iter_mut().chain(o.vel.iter_mut()) {
+            *x *= factor;
+        }
     }
 }
 
@@ -1013,6 +1223,7 @@ impl Integrator for GaussRadau {
         loop {
             if t == self.t {
                 self.write_current(out);
+                self.write_current_tangents();
                 return Ok(());
             }
             if self.in_last_step(t) {

@@ -11,6 +11,7 @@ pub mod integrator;
 pub mod jacobi;
 pub mod system;
 pub mod universal;
+pub mod variational;
 pub mod wisdom_holman;
 
 pub use events::{Event, EventSettings, NbodyError};

@@ -460,6 +460,188 @@ pub fn kepler_drift(
     Ok(fg.s)
 }
 
+/// Stumpff functions c₄(x) and c₅(x), from their power series for
+/// |x| < 0.5 and from the recurrences c₄ = (1/2 − c₂)/x, c₅ = (1/6 − c₃)/x
+/// (c_k(x) = 1/k! − x c_{k+2}(x); Danby 1988 §6.9) otherwise, where the
+/// cancellation costs at most a factor ~24 of rounding.
+#[inline]
+fn stumpff45(x: f64, c: &Stumpff) -> (f64, f64) {
+    if x.abs() < 0.5 {
+        // c₄ = Σ (−x)ʲ/(2j+4)!, c₅ = Σ (−x)ʲ/(2j+5)!, j ≤ 8 (next term
+        // below 0.5⁹/22! ≈ 2e-24).
+        let mut t4 = 1.0 / 24.0;
+        let mut t5 = 1.0 / 120.0;
+        let (mut c4, mut c5) = (t4, t5);
+        for j in 1..=8 {
+            let j = j as f64;
+            t4 *= -x / ((2.0 * j + 3.0) * (2.0 * j + 4.0));
+            t5 *= -x / ((2.0 * j + 4.0) * (2.0 * j + 5.0));
+            c4 += t4;
+            c5 += t5;
+        }
+        (c4, c5)
+    } else {
+        ((0.5 - c.c2) / x, (1.0 / 6.0 - c.c3) / x)
+    }
+}
+
+/// The tangent map (Jacobian) of one Kepler drift: how a small change
+/// (δr₀, δv₀) of the initial relative state maps to the change (δr, δv)
+/// of the drifted state, for the first-order variational equations of the
+/// Wisdom–Holman map (the drift part of Mikkola & Innanen 1999, AJ 118,
+/// 1929, and of Rein & Tamayo 2016, MNRAS 459, 2275, §2; derivation ours,
+/// written out below).
+///
+/// **Derivation.** With r₀ = |r₀|, η₀ = r₀·v₀, β = 2μ/r₀ − v₀², the
+/// universal anomaly s solves r₀G₁ + η₀G₂ + μG₃ = Δt, Gₖ = Gₖ(β, s)
+/// (see [`f_and_g`]), and r = r₀G₀ + η₀G₁ + μG₂. The G-functions obey
+/// ∂Gₖ/∂s = Gₖ₋₁ and ∂Gₖ/∂β = (k Gₖ₊₂ − s Gₖ₊₁)/2 (from the series
+/// Gₖ = Σⱼ (−β)ʲ s^{2j+k}/(2j+k)!). Varying the inputs,
+///
+/// * δr₀ = r₀·δr₀/r₀, δη₀ = δr₀·v₀ + r₀·δv₀, δβ = −2μ δr₀/r₀² − 2 v₀·δv₀;
+/// * δs = −[G₁ δr₀ + G₂ δη₀ + (r₀ ∂_βG₁ + η₀ ∂_βG₂ + μ ∂_βG₃) δβ] / r
+///   (implicit differentiation of the Kepler equation, whose s-derivative
+///   is r);
+/// * δGₖ = Gₖ₋₁ δs + ∂_βGₖ δβ;
+/// * f = 1 − μG₂/r₀ → δf = −μ δG₂/r₀ + μG₂ δr₀/r₀²; g = Δt − μG₃ →
+///   δg = −μ δG₃; δr = δf r₀ + f δr₀ + δg v₀ + g δv₀;
+/// * with δr = r·δr/r (of the new position),
+///   ḟ = −μG₁/(r₀r) → δḟ = −μ δG₁/(r₀r) − ḟ (δr₀/r₀ + δr/r);
+///   ġ = 1 − μG₂/r → δġ = −μ δG₂/r + μG₂ δr/r²;
+///   δv = δḟ r₀ + ḟ δr₀ + δġ v₀ + ġ δv₀.
+///
+/// When [`f_and_g`] removed n whole periods P = 2πμ/β^{3/2} from Δt, the
+/// flow over Δt equals the flow over Δt − nP(β), so the map gains
+/// −n δP (v, −μ r/r³) with δP = −(3/2) P δβ/β.
+///
+/// Built by [`drift_tangent_map`]; applied to any number of tangent vectors
+/// by [`DriftTangent::apply`] (no allocation).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DriftTangent {
+    r0v: Vector3<f64>,
+    v0v: Vector3<f64>,
+    rv: Vector3<f64>,
+    mu: f64,
+    r0: f64,
+    r: f64,
+    f: f64,
+    g: f64,
+    fdot: f64,
+    gdot: f64,
+    /// G₀..G₃ at the solution.
+    gk: [f64; 4],
+    /// ∂Gₖ/∂β for k = 1, 2, 3.
+    gb: [f64; 3],
+    /// Sensitivity of the Kepler equation to β: r₀∂_βG₁ + η₀∂_βG₂ + μ∂_βG₃.
+    kb: f64,
+    /// −n (3/2) P/β: δ(−nP) = turn_term · δβ … (0 when no turn removed).
+    turn: f64,
+    /// The new velocity and acceleration, for the turn term.
+    vv: Vector3<f64>,
+    av: Vector3<f64>,
+    identity: bool,
+}
+
+impl DriftTangent {
+    /// Map one tangent vector (δr₀ in au, δv₀ in au/day) in place to its
+    /// value after the drift.
+    #[inline]
+    pub fn apply(&self, dr: &mut Vector3<f64>, dv: &mut Vector3<f64>) {
+        if self.identity {
+            return;
+        }
+        let mu = self.mu;
+        let [g0, g1, g2, _g3] = self.gk;
+        let [gb1, gb2, gb3] = self.gb;
+        let d_r0 = self.r0v.dot(dr) / self.r0;
+        let d_eta = dr.dot(&self.v0v) + self.r0v.dot(dv);
+        let d_beta = -2.0 * mu * d_r0 / (self.r0 * self.r0) - 2.0 * self.v0v.dot(dv);
+        let d_s = -(g1 * d_r0 + g2 * d_eta + self.kb * d_beta) / self.r;
+        let d_g1 = g0 * d_s + gb1 * d_beta;
+        let d_g2 = g1 * d_s + gb2 * d_beta;
+        let d_g3 = g2 * d_s + gb3 * d_beta;
+        let d_f = -mu * d_g2 / self.r0 + mu * g2 * d_r0 / (self.r0 * self.r0);
+        let d_g = -mu * d_g3;
+        let mut new_dr = self.r0v * d_f + *dr * self.f + self.v0v * d_g + *dv * self.g;
+        let d_r = self.rv.dot(&new_dr) / self.r;
+        let d_fdot = -mu * d_g1 / (self.r0 * self.r) - self.fdot * (d_r0 / self.r0 + d_r / self.r);
+        let d_gdot = -mu * d_g2 / self.r + mu * g2 * d_r / (self.r * self.r);
+        let mut new_dv = self.r0v * d_fdot + *dr * self.fdot + self.v0v * d_gdot + *dv * self.gdot;
+        if self.turn != 0.0 {
+            let d_shift = self.turn * d_beta;
+            new_dr += self.vv * d_shift;
+            new_dv += self.av * d_shift;
+        }
+        *dr = new_dr;
+        *dv = new_dv;
+    }
+}
+
+/// Kepler drift of (`pos`, `vel`) by `dt` about `mu` as [`kepler_drift`]
+/// (same solver, same result to the bit), also returning the tangent map
+/// of the drift ([`DriftTangent`]) at the initial state. On error the
+/// state is left unchanged.
+#[inline]
+pub fn drift_tangent_map(
+    pos: &mut Vector3<f64>,
+    vel: &mut Vector3<f64>,
+    mu: f64,
+    dt: f64,
+) -> Result<DriftTangent, DriftError> {
+    let fg = f_and_g(pos, vel, mu, dt, None)?;
+    let r0v = *pos;
+    let v0v = *vel;
+    let p = r0v * fg.f + v0v * fg.g;
+    let v = r0v * fg.fdot + v0v * fg.gdot;
+    *pos = p;
+    *vel = v;
+    let r0 = r0v.norm();
+    let eta0 = r0v.dot(&v0v);
+    let beta = 2.0 * mu / r0 - v0v.norm_squared();
+    let s = fg.s;
+    let x = beta * s * s;
+    let c = stumpff(x);
+    let (c4, c5) = stumpff45(x, &c);
+    let s2 = s * s;
+    let gk = [c.c0, s * c.c1, s2 * c.c2, s2 * s * c.c3];
+    let g4 = s2 * s2 * c4;
+    let g5 = s2 * s2 * s * c5;
+    let gb = [
+        0.5 * (gk[3] - s * gk[2]),
+        0.5 * (2.0 * g4 - s * gk[3]),
+        0.5 * (3.0 * g5 - s * g4),
+    ];
+    let kb = r0 * gb[0] + eta0 * gb[1] + mu * gb[2];
+    let r = p.norm();
+    // Whole turns removed by f_and_g (same test and rounding).
+    let mut turn = 0.0;
+    if beta > 0.0 && 4.0 * dt * dt * beta * beta * beta > (TAU * mu) * (TAU * mu) {
+        let period = TAU * mu / (beta * beta.sqrt());
+        let n = (dt / period).round();
+        // δ(−nP) = −n δP = −n (−3/2) (P/β) δβ.
+        turn = 1.5 * n * period / beta;
+    }
+    Ok(DriftTangent {
+        r0v,
+        v0v,
+        rv: p,
+        mu,
+        r0,
+        r,
+        f: fg.f,
+        g: fg.g,
+        fdot: fg.fdot,
+        gdot: fg.gdot,
+        gk,
+        gb,
+        kb,
+        turn,
+        vv: v,
+        av: -p * (mu / (r * r * r)),
+        identity: dt == 0.0,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -75,8 +75,18 @@
 //! [`EventSettings::min_step`] does not apply (the step is fixed). Events
 //! are looked for on the main step sequence only, not in output copies.
 //!
+//! **Tangent vectors** ([`super::variational`]): with
+//! [`Variational::set_tangents`] the map also advances first-order tangent
+//! vectors, stored in Jacobi coordinates, by its exact tangent map: each
+//! drift by [`super::universal::DriftTangent`] (and δr'_0 += δv'_0 dt for
+//! the centre of mass), each kick by δv'_k += h [(A δa)_k + μ_k (δr'_k/r'³
+//! − 3 r'_k (r'_k·δr'_k)/r'⁵)], δa the tidal tensor applied to
+//! δx = A⁻¹δr' (plus the derivative of the post-Newtonian force
+//! −6(Gm_0)²m_k d/(c²r⁴) when on). Not available with a corrector. Without
+//! tangent vectors the step is the plain one.
+//!
 //! No heap allocation happens in a step or an output: every buffer is made
-//! at construction.
+//! at construction (or when tangent vectors are set).
 
 use nalgebra::Vector3;
 
@@ -84,7 +94,8 @@ use super::events::{Event, EventSettings, NbodyError};
 use super::integrator::Integrator;
 use super::jacobi;
 use super::system::{Snapshot, System};
-use super::universal::kepler_drift;
+use super::universal::{DriftError, drift_tangent_map, kepler_drift};
+use super::variational::{Tangent, Variational, tidal_accelerations};
 use crate::kepler::state_to_elements;
 use crate::units::{C_AU_PER_DAY, G};
 
@@ -166,11 +177,29 @@ struct Work {
     jacc: Vec<Vector3<f64>>,
 }
 
+/// Tangent vectors in Jacobi coordinates: `ntan` blocks of n entries.
+#[derive(Debug, Clone, Default)]
+struct Tangents {
+    ntan: usize,
+    r: Vec<Vector3<f64>>,
+    v: Vec<Vector3<f64>>,
+    /// Scratch copies for outputs.
+    sr: Vec<Vector3<f64>>,
+    sv: Vec<Vector3<f64>>,
+    /// Kick work: inertial δx, δa and Jacobi δa.
+    dpos: Vec<Vector3<f64>>,
+    dacc: Vec<Vector3<f64>>,
+    djacc: Vec<Vector3<f64>>,
+    /// Barycentric tangents at the last output.
+    out: Vec<Tangent>,
+}
+
 /// The Wisdom–Holman integrator (see the module docs).
 #[derive(Debug, Clone)]
 pub struct WisdomHolman {
     b: Bodies,
     w: Work,
+    tan: Tangents,
     /// Main Jacobi state (mapping coordinates when a corrector is on).
     jr: Vec<Vector3<f64>>,
     jv: Vec<Vector3<f64>>,
@@ -214,6 +243,7 @@ impl WisdomHolman {
                 acc: z.clone(),
                 jacc: z.clone(),
             },
+            tan: Tangents::default(),
             jr: z.clone(),
             jv: z.clone(),
             sr: z.clone(),
@@ -311,6 +341,8 @@ impl WisdomHolman {
         };
         self.active.clear();
         self.active.resize(2 * n + n * n, false);
+        self.tan.ntan = 0;
+        self.tan.out.clear();
         self.events.clear();
         self.t0 = s.t;
         self.steps = 0;
@@ -370,7 +402,24 @@ impl WisdomHolman {
         self.sv.copy_from_slice(&self.jv);
         let drift_err = |(body, source)| NbodyError::Drift { t, body, source };
         let (b, w, sr, sv) = (&self.b, &mut self.w, &mut self.sr, &mut self.sv);
-        if self.corrector == Corrector::Off {
+        if self.tan.ntan > 0 {
+            let tn = &mut self.tan;
+            tn.sr.copy_from_slice(&tn.r);
+            tn.sv.copy_from_slice(&tn.v);
+            let nb = sr.len();
+            drift_tan(b, sr, sv, &mut tn.sr, &mut tn.sv, nb, self.lag + 0.5 * tau)
+                .map_err(drift_err)?;
+            if tau != 0.0 {
+                kick(b, w, sr, sv, tau);
+                kick_tan(b, w, tn, true, sr, tau);
+                drift_tan(b, sr, sv, &mut tn.sr, &mut tn.sv, nb, 0.5 * tau).map_err(drift_err)?;
+            }
+            for (i, t) in tn.out.iter_mut().enumerate() {
+                let blk = i * nb..(i + 1) * nb;
+                jacobi::jacobi_to_inertial_with(&b.ratio, &tn.sr[blk.clone()], &mut t.pos);
+                jacobi::jacobi_to_inertial_with(&b.ratio, &tn.sv[blk], &mut t.vel);
+            }
+        } else if self.corrector == Corrector::Off {
             drift_all(b, sr, sv, self.lag + 0.5 * tau).map_err(drift_err)?;
             if tau != 0.0 {
                 kick(b, w, sr, sv, tau);
@@ -401,8 +450,22 @@ impl WisdomHolman {
     fn synchronise(&mut self) -> Result<(), NbodyError> {
         if self.lag != 0.0 {
             let t = self.time();
-            drift_all(&self.b, &mut self.jr, &mut self.jv, self.lag)
-                .map_err(|(body, source)| NbodyError::Drift { t, body, source })?;
+            let n = self.jr.len();
+            let tn = &mut self.tan;
+            if tn.ntan > 0 {
+                drift_tan(
+                    &self.b,
+                    &mut self.jr,
+                    &mut self.jv,
+                    &mut tn.r,
+                    &mut tn.v,
+                    n,
+                    self.lag,
+                )
+            } else {
+                drift_all(&self.b, &mut self.jr, &mut self.jv, self.lag)
+            }
+            .map_err(|(body, source)| NbodyError::Drift { t, body, source })?;
             self.lag = 0.0;
         }
         Ok(())
@@ -412,14 +475,33 @@ impl WisdomHolman {
     fn one_step(&mut self, h: f64) -> Result<(), NbodyError> {
         let t_mid = self.time() + 0.5 * h;
         let drift = self.lag + 0.5 * h;
-        drift_all(&self.b, &mut self.jr, &mut self.jv, drift).map_err(|(body, source)| {
-            NbodyError::Drift {
-                t: t_mid,
-                body,
-                source,
+        let drift_err = |(body, source)| NbodyError::Drift {
+            t: t_mid,
+            body,
+            source,
+        };
+        if self.tan.ntan == 0 {
+            drift_all(&self.b, &mut self.jr, &mut self.jv, drift).map_err(drift_err)?;
+            kick(&self.b, &mut self.w, &self.jr, &mut self.jv, h);
+        } else {
+            let n = self.jr.len();
+            let tn = &mut self.tan;
+            drift_tan(
+                &self.b,
+                &mut self.jr,
+                &mut self.jv,
+                &mut tn.r,
+                &mut tn.v,
+                n,
+                drift,
+            )
+            .map_err(drift_err)?;
+            kick(&self.b, &mut self.w, &self.jr, &mut self.jv, h);
+            kick_tan(&self.b, &self.w, tn, false, &self.jr, h);
+            if !all_finite(&tn.r) || !all_finite(&tn.v) {
+                return Err(NbodyError::NonFinite { t: t_mid });
             }
-        })?;
-        kick(&self.b, &mut self.w, &self.jr, &mut self.jv, h);
+        }
         self.lag = 0.5 * h;
         self.steps += if h > 0.0 { 1 } else { -1 };
         if !all_finite(&self.jr) || !all_finite(&self.jv) {
@@ -554,6 +636,73 @@ fn drift_all(
     Ok(())
 }
 
+/// [`drift_all`] that also maps the tangent vectors `tr`, `tv` (blocks of
+/// `n` Jacobi entries) by the tangent map of each drift (module docs).
+#[inline]
+fn drift_tan(
+    b: &Bodies,
+    jr: &mut [Vector3<f64>],
+    jv: &mut [Vector3<f64>],
+    tr: &mut [Vector3<f64>],
+    tv: &mut [Vector3<f64>],
+    n: usize,
+    dt: f64,
+) -> Result<(), (usize, DriftError)> {
+    if dt == 0.0 {
+        return Ok(());
+    }
+    let com_v = jv[0];
+    jr[0] += com_v * dt;
+    for (r, v) in tr.chunks_exact_mut(n).zip(tv.chunks_exact(n)) {
+        r[0] += v[0] * dt;
+    }
+    for k in 1..n {
+        let map = drift_tangent_map(&mut jr[k], &mut jv[k], b.mu[k], dt).map_err(|e| (k, e))?;
+        for (r, v) in tr.chunks_exact_mut(n).zip(tv.chunks_exact_mut(n)) {
+            map.apply(&mut r[k], &mut v[k]);
+        }
+    }
+    Ok(())
+}
+
+/// Tangent part of the kick of size `h` (module docs), on the main
+/// (`scratch` false) or output (`scratch` true) tangent vectors; needs the
+/// inertial kick positions left in `w.pos` by [`kick`] at the Jacobi
+/// positions `jr`.
+#[inline]
+fn kick_tan(b: &Bodies, w: &Work, tn: &mut Tangents, scratch: bool, jr: &[Vector3<f64>], h: f64) {
+    let n = jr.len();
+    let (tr, tv) = if scratch {
+        (&tn.sr, &mut tn.sv)
+    } else {
+        (&tn.r, &mut tn.v)
+    };
+    for (r, v) in tr.chunks_exact(n).zip(tv.chunks_exact_mut(n)) {
+        jacobi::jacobi_to_inertial_with(&b.ratio, r, &mut tn.dpos);
+        tidal_accelerations(&b.masses, &w.pos, &tn.dpos, &mut tn.dacc);
+        if b.pn != 0.0 {
+            let m0 = b.masses[0];
+            for k in 1..n {
+                let d = w.pos[k] - w.pos[0];
+                let dd = tn.dpos[k] - tn.dpos[0];
+                let r2 = d.norm_squared();
+                let df = (dd - d * (4.0 * d.dot(&dd) / r2)) * (b.pn / (r2 * r2));
+                tn.dacc[k] -= df;
+                tn.dacc[0] += df * (b.masses[k] / m0);
+            }
+        }
+        jacobi::inertial_to_jacobi_with(&b.masses, &b.inv_interior, &tn.dacc, &mut tn.djacc);
+        for k in 1..n {
+            let rk = jr[k];
+            let dr = r[k];
+            let r2 = rk.norm_squared();
+            let inv_r3 = 1.0 / (r2 * r2.sqrt());
+            let da = tn.djacc[k] + (dr - rk * (3.0 * rk.dot(&dr) / r2)) * (b.mu[k] * inv_r3);
+            v[k] += da * h;
+        }
+    }
+}
+
 /// Interaction kick v'_k += h [(A a)_k + μ_k r'_k/r'_k³] (module docs).
 #[inline]
 fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], h: f64) {
@@ -627,6 +776,83 @@ fn apply_corrector(
         }
     }
     Ok(())
+}
+
+impl Variational for WisdomHolman {
+    fn set_tangents(&mut self, tangents: &[Tangent]) -> Result<(), NbodyError> {
+        if self.corrector != Corrector::Off {
+            return Err(NbodyError::InvalidRequest(
+                "tangent vectors need the Wisdom–Holman map without a corrector".into(),
+            ));
+        }
+        let n = self.jr.len();
+        if tangents
+            .iter()
+            .any(|t| t.pos.len() != n || t.vel.len() != n)
+        {
+            return Err(NbodyError::InvalidRequest(format!(
+                "every tangent vector needs {n} positions and velocities"
+            )));
+        }
+        if tangents
+            .iter()
+            .any(|t| !all_finite(&t.pos) || !all_finite(&t.vel))
+        {
+            return Err(NbodyError::InvalidRequest(
+                "tangent vectors must be finite".into(),
+            ));
+        }
+        self.synchronise()?;
+        let nt = tangents.len();
+        let tn = &mut self.tan;
+        let z = Vector3::zeros();
+        for v in [&mut tn.r, &mut tn.v, &mut tn.sr, &mut tn.sv] {
+            v.clear();
+            v.resize(nt * n, z);
+        }
+        for v in [&mut tn.dpos, &mut tn.dacc, &mut tn.djacc] {
+            v.clear();
+            v.resize(n, z);
+        }
+        for (i, t) in tangents.iter().enumerate() {
+            let blk = i * n..(i + 1) * n;
+            jacobi::inertial_to_jacobi(
+                &self.b.masses,
+                &self.b.interior,
+                &t.pos,
+                &mut tn.r[blk.clone()],
+            );
+            jacobi::inertial_to_jacobi(&self.b.masses, &self.b.interior, &t.vel, &mut tn.v[blk]);
+        }
+        tn.out = tangents.to_vec();
+        tn.ntan = nt;
+        Ok(())
+    }
+
+    fn tangent_count(&self) -> usize {
+        self.tan.ntan
+    }
+
+    fn output_tangents(&self) -> &[Tangent] {
+        &self.tan.out
+    }
+
+    fn scale_tangent(&mut self, i: usize, factor: f64) {
+        let n = self.jr.len();
+        if i >= self.tan.ntan {
+            return;
+        }
+        for x in self.tan.r[i * n..(i + 1) * n]
+            .iter_mut()
+            .chain(self.tan.v[i * n..(i + 1) * n].iter_mut())
+        {
+            *x *= factor;
+        }
+        let o = &mut self.tan.out[i];
+        for x in o.pos.iter_mut().chain(o.vel.iter_mut()) {
+            *x *= factor;
+        }
+    }
 }
 
 impl Integrator for WisdomHolman {

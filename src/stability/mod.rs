@@ -2,5 +2,6 @@
 
 pub mod criteria;
 pub mod map;
+pub mod megno;
 pub mod run;
 pub mod survey;
