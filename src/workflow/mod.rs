@@ -6,3 +6,4 @@
 pub mod fitting;
 pub mod posterior;
 pub mod search;
+pub mod simulate;
