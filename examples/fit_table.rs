@@ -12,7 +12,7 @@ use apsidal::config::observations_of;
 use apsidal::data::{InstrumentLabel, TableSource, read_tables};
 use apsidal::fit::best_fit::{FitSettings, fit_model};
 use apsidal::fit::models::{ModelKind, RvModel, TrendKind, default_parameters};
-use apsidal::periodogram::GridSettings;
+use apsidal::periodogram::{GridSettings, PeelSettings};
 use apsidal::workflow::search::{SearchSettings, guesses_from_detections, search};
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
@@ -31,13 +31,18 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         data.baseline()
     );
 
-    // 1. Periodogram with peeling, periods from 2 d to the baseline.
+    // 1. Periodogram with peeling, periods from 2 d to the baseline. Two
+    //    signals at most: a third peak would be the first harmonic (P/2) of
+    //    the eccentric outer orbit, which the Keplerian fit models itself.
     let settings = SearchSettings {
         grid: GridSettings {
             shortest_period: Some(2.0),
             ..GridSettings::default()
         },
-        ..SearchSettings::default()
+        peel: PeelSettings {
+            max_signals: 2,
+            ..PeelSettings::default()
+        },
     };
     let report = search(&data, &settings)?;
     for d in &report.detections {

@@ -599,8 +599,10 @@ fn round_to(x: f64, decimals: i32) -> f64 {
 
 /// Epochs of one instrument: seasons of [`SEASON_DAYS`] a year inside
 /// [FIRST_DAY, LAST_DAY], dark-time runs of 3–6 nights every synodic
-/// month, each night clear with probability `clear`, then `n` nights drawn
-/// from the clear ones, each at a random hour of the night (day fraction
+/// month, each night clear with probability `clear`, then `n` nights
+/// shared among the seasons in proportion to their clear nights (each
+/// season's first and last kept, the others drawn at random), each at a
+/// random hour of the night (day fraction
 /// 0.52–0.88, i.e. about 00:30–09:00 UT for an observatory in the
 /// Americas). Sorted.
 fn calendar(
@@ -608,10 +610,12 @@ fn calendar(
     inst: &InstrumentSpec,
     rng: &mut ChaCha8Rng,
 ) -> Result<Vec<f64>, DemoError> {
-    let mut nights: Vec<f64> = Vec::new();
+    // Clear nights of each season.
+    let mut seasons: Vec<Vec<f64>> = Vec::new();
     for year in inst.years.0..inst.years.1 {
         let open = FIRST_DAY + spec.season_start + 365.25 * f64::from(year);
         let close = open + SEASON_DAYS;
+        let mut nights = Vec::new();
         let mut run_start = open + rng.random_range(0.0..12.0);
         while run_start < close {
             let len: u32 = rng.random_range(3..=6);
@@ -624,21 +628,54 @@ fn calendar(
             }
             run_start += RUN_SPACING;
         }
+        if !nights.is_empty() {
+            seasons.push(nights);
+        }
     }
-    if nights.len() < inst.epochs {
+    let total: usize = seasons.iter().map(Vec::len).sum();
+    if total < inst.epochs {
         return Err(DemoError::Calendar(format!(
-            "{}: only {} clear nights for {} epochs",
-            inst.name,
-            nights.len(),
-            inst.epochs
+            "{}: only {total} clear nights for {} epochs",
+            inst.name, inst.epochs
         )));
     }
-    // Partial Fisher–Yates: the first n of a random permutation.
-    for i in 0..inst.epochs {
-        let j = rng.random_range(i..nights.len());
-        nights.swap(i, j);
+    // Epochs per season in proportion to its clear nights (the remainder
+    // one by one from the first season on).
+    let mut quota: Vec<usize> = seasons
+        .iter()
+        .map(|s| s.len() * inst.epochs / total)
+        .collect();
+    let mut left = inst.epochs - quota.iter().sum::<usize>();
+    let mut k = 0;
+    while left > 0 {
+        if quota[k] < seasons[k].len() {
+            quota[k] += 1;
+            left -= 1;
+        }
+        k = (k + 1) % seasons.len();
     }
-    nights.truncate(inst.epochs);
+    // In each season the first and last clear nights (the season's ends
+    // are observed, as a real programme does) and the rest at random
+    // (partial Fisher–Yates of the nights between).
+    let mut nights: Vec<f64> = Vec::with_capacity(inst.epochs);
+    for (s, &q) in seasons.iter_mut().zip(&quota) {
+        let m = s.len();
+        if q == 0 {
+            continue;
+        }
+        if q == 1 {
+            nights.push(s[rng.random_range(0..m)]);
+            continue;
+        }
+        nights.push(s[0]);
+        nights.push(s[m - 1]);
+        let middle = &mut s[1..m - 1];
+        for i in 0..q - 2 {
+            let j = rng.random_range(i..middle.len());
+            middle.swap(i, j);
+        }
+        nights.extend_from_slice(&middle[..q - 2]);
+    }
     nights.sort_by(f64::total_cmp);
     Ok(nights
         .into_iter()

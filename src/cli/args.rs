@@ -65,7 +65,7 @@ apsidal simulate demo-data/tellan/run.ron --epochs nights.txt --model keplerian 
 writes sim/simulated.txt, e.g.\n  \
 # simulated by apsidal (Dynamical model, reference epoch 2457250); rv, err in m/s\n  \
 time rv err instrument\n  \
-2455000.000000 -98.1234 1.0000 SIM"
+2455000.000000 29.4620 1.0000 SIM"
     )]
     Simulate(SimulateArgs),
 }
