@@ -34,14 +34,8 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         dynamical.reference_epoch
     );
     println!("  time [d]        v_dyn [m/s]  v_kep [m/s]  difference [m/s]");
-    for k in 0..epochs.len() {
-        println!(
-            "  {:<14.2}  {:>11.3}  {:>11.3}  {:>10.3}",
-            epochs[k],
-            dynamical.rv[k],
-            kepler.rv[k],
-            dynamical.rv[k] - kepler.rv[k]
-        );
+    for ((t, vd), vk) in epochs.iter().zip(&dynamical.rv).zip(&kepler.rv) {
+        println!("  {t:<14.2}  {vd:>11.3}  {vk:>11.3}  {:>10.3}", vd - vk);
     }
     // The same epochs with 2 m/s of noise, seeded: a table ready to fit.
     let noisy = simulate(

@@ -622,7 +622,7 @@ fn calendar(
             for d in 0..len {
                 let day = (run_start + f64::from(d)).floor();
                 let clear = rng.random_bool(inst.clear);
-                if clear && day >= FIRST_DAY && day <= LAST_DAY && day < close {
+                if clear && (FIRST_DAY..=LAST_DAY).contains(&day) && day < close {
                     nights.push(day);
                 }
             }
