@@ -15,6 +15,7 @@ pub mod atomic;
 pub mod compare;
 pub mod config;
 pub mod data;
+pub mod demo;
 pub mod fit;
 pub mod kepler;
 pub mod model;

@@ -71,6 +71,22 @@ pub enum Command {
         after_help = "Example:\n  apsidal merge --out stab stab/survey-shard-0-of-4.csv stab/survey-shard-1-of-4.csv stab/survey-shard-2-of-4.csv stab/survey-shard-3-of-4.csv"
     )]
     Merge(MergeArgs),
+    /// RVs of the run file's star and planets at chosen epochs, from the
+    /// N-body model (default) or the sum of Keplerians, optionally with
+    /// Gaussian noise; written as a table (time rv err instrument).
+    #[command(
+        after_help = "The planets' elements are osculating at the run file's reference epoch (else the\n\
+middle of the epochs); no instrument offset is added. With --noise the err column\n\
+holds the noise sigma, else 1 m/s.\n\n\
+Examples:\n  \
+apsidal simulate demo-data/tellan/run.ron --start 2455000 --end 2459500 --step 0.5 --out sim\n  \
+apsidal simulate demo-data/tellan/run.ron --epochs nights.txt --model keplerian --noise 2 --seed 7 --out sim\n\n\
+writes sim/simulated.txt, e.g.\n  \
+# simulated by apsidal (Dynamical model, reference epoch 2457250); rv, err in m/s\n  \
+time rv err instrument\n  \
+2455000.000000 29.4620 1.0000 SIM"
+    )]
+    Simulate(SimulateArgs),
 }
 
 /// Settings of one stability run shared by `stability` and `map`.
@@ -192,4 +208,45 @@ pub struct SampleArgs {
     /// Continue from the checkpoint in the output folder.
     #[arg(long)]
     pub resume: bool,
+}
+
+/// Arguments of `simulate`.
+#[derive(Debug, Args)]
+pub struct SimulateArgs {
+    /// The RON run file (its star and planets are used; its data are not read).
+    pub run: PathBuf,
+    /// File of epochs (days), one a line; `#` comments.
+    #[arg(long, conflicts_with_all = ["start", "end", "step"])]
+    pub epochs: Option<PathBuf>,
+    /// First epoch (days).
+    #[arg(long, requires_all = ["end", "step"])]
+    pub start: Option<f64>,
+    /// Last epoch (days, inclusive).
+    #[arg(long, requires_all = ["start", "step"])]
+    pub end: Option<f64>,
+    /// Spacing of the epochs (days).
+    #[arg(long, requires_all = ["start", "end"])]
+    pub step: Option<f64>,
+    /// Which model: `dynamical` (N-body, Gauss–Radau at tolerance 1e-9) or
+    /// `keplerian`.
+    #[arg(long, value_enum, default_value_t = SimModelArg::Dynamical)]
+    pub model: SimModelArg,
+    /// Gaussian noise σ in m/s (seeded by --seed).
+    #[arg(long)]
+    pub noise: Option<f64>,
+    /// Instrument label of the table.
+    #[arg(long, default_value = "SIM")]
+    pub instrument: String,
+    /// Name of the table in the output folder.
+    #[arg(long, default_value = "simulated.txt")]
+    pub table: String,
+}
+
+/// The model of `simulate`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum SimModelArg {
+    /// N-body integration.
+    Dynamical,
+    /// Sum of Keplerians.
+    Keplerian,
 }

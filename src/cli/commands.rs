@@ -14,6 +14,7 @@ use apsidal::workflow::search::{SearchReport, SearchSettings, search};
 
 use super::args::{Cli, Command, PeriodogramArgs, RunArgs, SampleArgs};
 use super::args::{MapArgs, MergeArgs, RunLengthArgs, StabilityArgs};
+use super::args::{SimModelArg, SimulateArgs};
 use super::output::{CliError, ensure_dir, write_report, write_text};
 use super::progress::{SamplerProgress, bar};
 
@@ -29,6 +30,7 @@ pub fn dispatch(cli: &Cli) -> Result<(), CliError> {
         Command::Stability(a) => stability(cli, a),
         Command::Map(a) => map(cli, a),
         Command::Merge(a) => merge(cli, a),
+        Command::Simulate(a) => simulate(cli, a),
     }
 }
 
@@ -557,5 +559,69 @@ fn merge(cli: &Cli, a: &MergeArgs) -> Result<(), CliError> {
     write_report(&dir, "survey-summary", &summary)?;
     say(cli, &survey_line(&summary));
     say(cli, &format!("results in {}", dir.display()));
+    Ok(())
+}
+
+fn simulate(cli: &Cli, a: &SimulateArgs) -> Result<(), CliError> {
+    use apsidal::workflow::simulate::{
+        SimulateSettings, SimulationModel, epochs_between, parse_epochs,
+    };
+    let bad = |e: apsidal::workflow::simulate::SimulateError| CliError::BadInput(e.to_string());
+    let run = load_run_file(&a.run).map_err(|e| CliError::BadInput(e.to_string()))?;
+    let epochs = match (&a.epochs, a.start, a.end, a.step) {
+        (Some(path), ..) => {
+            let text = std::fs::read_to_string(path).map_err(|e| {
+                CliError::BadInput(format!("{}: cannot read the epochs: {e}", path.display()))
+            })?;
+            parse_epochs(&text, &path.display().to_string()).map_err(bad)?
+        }
+        (None, Some(start), Some(end), Some(step)) => {
+            epochs_between(start, end, step).map_err(bad)?
+        }
+        _ => {
+            return Err(CliError::BadInput(
+                "give the epochs: --epochs FILE, or --start, --end and --step".into(),
+            ));
+        }
+    };
+    let settings = SimulateSettings {
+        model: match a.model {
+            SimModelArg::Dynamical => SimulationModel::Dynamical,
+            SimModelArg::Keplerian => SimulationModel::Keplerian,
+        },
+        noise: a.noise,
+        seed: cli.global.seed.or(run.seed).unwrap_or(DEFAULT_SEED),
+        instrument: a.instrument.clone(),
+        ..SimulateSettings::default()
+    };
+    let name = a.run.display().to_string();
+    let sim = apsidal::workflow::simulate::simulate(&run, &epochs, &settings, &name).map_err(
+        |e| match e {
+            apsidal::workflow::simulate::SimulateError::Dynamical(_) => {
+                CliError::Internal(e.to_string())
+            }
+            _ => CliError::BadInput(e.to_string()),
+        },
+    )?;
+    if a.table.is_empty() || a.table.contains(['/', '\\']) {
+        return Err(CliError::BadInput(format!(
+            "--table '{}' must be a plain file name",
+            a.table
+        )));
+    }
+    let dir = out_dir(cli, Some(&run));
+    ensure_dir(&dir)?;
+    let path = dir.join(&a.table);
+    write_text(&path, &sim.to_table())?;
+    say(
+        cli,
+        &format!(
+            "{} epochs ({:?} model, reference epoch {}) written to {}",
+            sim.time.len(),
+            sim.model,
+            sim.reference_epoch,
+            path.display()
+        ),
+    );
     Ok(())
 }

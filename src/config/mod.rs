@@ -45,6 +45,7 @@ mod validate;
 
 pub use error::{FieldPath, PathSegment, RunFileError, ValidationIssue};
 pub use sections::{FitSection, IntegratorChoice, PriorOverride, SamplerSection};
+pub use setup::planet_guesses;
 pub use setup::{SetupError, build_model, observations_of};
 pub use types::{DataFile, InstrumentChoice, Phase, PlanetStart, RunFile, Signal, Star};
 pub use validate::validate;

@@ -8,3 +8,4 @@ pub mod job;
 pub mod pictures;
 pub mod posterior;
 pub mod search;
+pub mod simulate;
