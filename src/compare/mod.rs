@@ -1,5 +1,9 @@
 //! Keplerian-versus-dynamical comparison: statistics, resonance diagnosis,
 //! secular (long-term) predictions and flags.
 
+pub mod flag;
+pub mod horizon;
+pub mod report;
 pub mod resonance;
 pub mod secular;
+pub mod statistics;
