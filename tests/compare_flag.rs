@@ -43,7 +43,11 @@ fn flags_follow_their_thresholds() {
     let near = summarise_pair(&pair_history(false, 2.04), 0, 1, &settings).unwrap();
     let far = summarise_pair(&pair_history(false, 2.75), 0, 1, &settings).unwrap();
 
-    let d = decide_flag(&evidence(3.0, 0.5, BEYOND), &[resonant.clone()], &th);
+    let d = decide_flag(
+        &evidence(3.0, 0.5, BEYOND),
+        std::slice::from_ref(&resonant),
+        &th,
+    );
     assert_eq!(d.flag, Flag::Resonant);
     assert!(d.reasons[0].contains("2:1 φ0"), "{:?}", d.reasons);
     assert!(d.reasons[0].contains("22.9°"), "{:?}", d.reasons);
@@ -59,10 +63,18 @@ fn flags_follow_their_thresholds() {
         libration_amplitude_deg: 20.0,
         ..th
     };
-    let d = decide_flag(&evidence(3.0, 0.5, BEYOND), &[resonant.clone()], &tight);
+    let d = decide_flag(
+        &evidence(3.0, 0.5, BEYOND),
+        std::slice::from_ref(&resonant),
+        &tight,
+    );
     assert_eq!(d.flag, Flag::NearResonant);
 
-    let d = decide_flag(&evidence(3.0, 0.5, BEYOND), &[near.clone()], &th);
+    let d = decide_flag(
+        &evidence(3.0, 0.5, BEYOND),
+        std::slice::from_ref(&near),
+        &th,
+    );
     assert_eq!(d.flag, Flag::NearResonant, "{:?}", d.reasons);
     assert!(
         d.reasons[0].contains("2:1") && d.reasons[0].contains("+2.000 %"),
@@ -71,15 +83,24 @@ fn flags_follow_their_thresholds() {
     );
 
     // Far from any commensurability: decided by evidence, velocity, horizon.
-    let d = decide_flag(&evidence(3.0, 0.5, BEYOND), &[far.clone()], &th);
+    let d = decide_flag(&evidence(3.0, 0.5, BEYOND), std::slice::from_ref(&far), &th);
     assert_eq!(d.flag, Flag::KinematicAdequate, "{:?}", d.reasons);
     assert!(d.reasons.iter().any(|r| r.contains("0.500 m/s")));
     // ΔBIC exactly 10 is not strong evidence (strict >); 10.01 is.
     assert_eq!(
-        decide_flag(&evidence(10.0, 0.5, BEYOND), &[far.clone()], &th).flag,
+        decide_flag(
+            &evidence(10.0, 0.5, BEYOND),
+            std::slice::from_ref(&far),
+            &th
+        )
+        .flag,
         Flag::KinematicAdequate
     );
-    let d = decide_flag(&evidence(10.01, 0.5, BEYOND), &[far.clone()], &th);
+    let d = decide_flag(
+        &evidence(10.01, 0.5, BEYOND),
+        std::slice::from_ref(&far),
+        &th,
+    );
     assert_eq!(d.flag, Flag::Interacting);
     assert!(
         d.reasons[0].starts_with("ΔBIC(Keplerian − dynamical) = 10.01 (> 10)"),
@@ -88,25 +109,39 @@ fn flags_follow_their_thresholds() {
     );
     // Velocity: 3 × 1.5 = 4.5 m/s.
     assert_eq!(
-        decide_flag(&evidence(0.0, 4.5, BEYOND), &[far.clone()], &th).flag,
+        decide_flag(&evidence(0.0, 4.5, BEYOND), std::slice::from_ref(&far), &th).flag,
         Flag::KinematicAdequate
     );
-    let d = decide_flag(&evidence(0.0, 4.6, BEYOND), &[far.clone()], &th);
+    let d = decide_flag(&evidence(0.0, 4.6, BEYOND), std::slice::from_ref(&far), &th);
     assert_eq!(d.flag, Flag::Interacting);
     assert!(d.criteria.velocity_requires_dynamics);
     // Horizon: 9.9 yr is within the 10 yr, 10.1 yr is not.
-    let d = decide_flag(&evidence(0.0, 0.5, reached(9.9)), &[far.clone()], &th);
+    let d = decide_flag(
+        &evidence(0.0, 0.5, reached(9.9)),
+        std::slice::from_ref(&far),
+        &th,
+    );
     assert_eq!(d.flag, Flag::Interacting);
     assert!(d.reasons[0].contains("9.900 yr"), "{:?}", d.reasons);
     assert_eq!(
-        decide_flag(&evidence(0.0, 0.5, reached(10.1)), &[far.clone()], &th).flag,
+        decide_flag(
+            &evidence(0.0, 0.5, reached(10.1)),
+            std::slice::from_ref(&far),
+            &th
+        )
+        .flag,
         Flag::KinematicAdequate
     );
     let at_last = HorizonOutcome::AtLastObservation {
         difference_m_s: 2.0,
     };
     assert_eq!(
-        decide_flag(&evidence(0.0, 0.5, at_last), &[far.clone()], &th).flag,
+        decide_flag(
+            &evidence(0.0, 0.5, at_last),
+            std::slice::from_ref(&far),
+            &th
+        )
+        .flag,
         Flag::Interacting
     );
     // No pairs at all (one planet): still decided.

@@ -216,4 +216,18 @@ fn horizon_over_samples_is_deterministic() {
     if let (HorizonYears::Years(lo), HorizonYears::Years(m)) = (one.lower_68, one.median) {
         assert!(lo <= m);
     }
+    // A draw that cannot be evaluated (e = 1.25) is counted and left out.
+    let mut bad = samples.clone();
+    let i = dm.params.index_of("b.sqrt_e_cos_w").unwrap();
+    bad[0].1[i] = 1.0;
+    bad[0].1[dm.params.index_of("b.sqrt_e_sin_w").unwrap()] = 0.5;
+    let with_bad = horizon_over_samples(&km, &dm, &bad, &settings).unwrap();
+    assert_eq!(with_bad.failed, 1);
+    assert_eq!(with_bad.evaluated, 11);
+    assert_eq!(with_bad.per_sample_yr[0], None);
+    assert_eq!(with_bad.per_sample_yr[1..], one.per_sample_yr[1..]);
+    // A vector of the wrong length is an error, not a failed draw.
+    let mut short = samples.clone();
+    short[2].0.pop();
+    assert!(horizon_over_samples(&km, &dm, &short, &settings).is_err());
 }

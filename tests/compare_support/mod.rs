@@ -70,8 +70,8 @@ pub fn observations(planets: &[PlanetGuess], n: usize, span: f64, seed: u64) -> 
     }
     let mut rv = vec![0.0; n];
     m.model_rv(&full, &mut rv).unwrap();
-    for i in 0..n {
-        rv[i] += Normal::new(0.0, obs.err[i]).unwrap().sample(&mut rng);
+    for (v, e) in rv.iter_mut().zip(&obs.err) {
+        *v += Normal::new(0.0, *e).unwrap().sample(&mut rng);
     }
     obs.rv = rv;
     obs
