@@ -13,8 +13,8 @@ use apsidal::workflow::posterior::{PosteriorSettings, PosteriorSummary, sample_p
 use apsidal::workflow::search::{SearchReport, SearchSettings, search};
 
 use super::args::{Cli, Command, PeriodogramArgs, RunArgs, SampleArgs};
+use super::args::{DemoArgs, SimModelArg, SimulateArgs};
 use super::args::{MapArgs, MergeArgs, RunLengthArgs, StabilityArgs};
-use super::args::{SimModelArg, SimulateArgs};
 use super::output::{CliError, ensure_dir, write_report, write_text};
 use super::progress::{SamplerProgress, bar};
 
@@ -31,6 +31,7 @@ pub fn dispatch(cli: &Cli) -> Result<(), CliError> {
         Command::Map(a) => map(cli, a),
         Command::Merge(a) => merge(cli, a),
         Command::Simulate(a) => simulate(cli, a),
+        Command::Demo(a) => demo(cli, a),
     }
 }
 
@@ -622,6 +623,43 @@ fn simulate(cli: &Cli, a: &SimulateArgs) -> Result<(), CliError> {
             sim.reference_epoch,
             path.display()
         ),
+    );
+    Ok(())
+}
+
+fn demo(cli: &Cli, a: &DemoArgs) -> Result<(), CliError> {
+    use apsidal::workflow::job::{JobSettings, job_summary, run_job};
+    let (run, data) =
+        apsidal::demo::load_demo(&a.system).map_err(|e| CliError::BadInput(e.to_string()))?;
+    let seed = cli.global.seed.or(run.seed).unwrap_or(DEFAULT_SEED);
+    let mut settings = JobSettings::for_run(&run, seed);
+    settings.posterior.steps = a.steps;
+    settings.assess.survey_samples = a.survey;
+    let dir = cli
+        .global
+        .out
+        .clone()
+        .unwrap_or_else(|| PathBuf::from("apsidal-demo"));
+    ensure_dir(&dir)?;
+    let name = format!("demo:{}", a.system);
+    say(
+        cli,
+        &format!(
+            "demo system {} ({} points); writing into {}",
+            a.system,
+            data.len(),
+            dir.display()
+        ),
+    );
+    let pb = bar(a.steps as u64, "sampling", cli.global.quiet);
+    let mut progress = SamplerProgress(pb.clone());
+    let report = run_job(&run, &data, &name, &dir, &settings, &mut [&mut progress])
+        .map_err(|e| CliError::Internal(e.to_string()))?;
+    pb.finish_and_clear();
+    say(cli, &job_summary(&report));
+    say(
+        cli,
+        &format!("{} files in {}", report.files.len(), dir.display()),
     );
     Ok(())
 }

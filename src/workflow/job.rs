@@ -32,6 +32,8 @@ pub struct JobSettings {
     pub fit: FitSettings,
     /// Posterior run (of the last model of the run file).
     pub posterior: PosteriorSettings,
+    /// Comparison, diagnosis and stability.
+    pub assess: super::assess::AssessSettings,
 }
 
 impl JobSettings {
@@ -55,6 +57,10 @@ impl JobSettings {
                 thin: s.and_then(|s| s.thin).unwrap_or(1),
                 checkpoint_every: s.and_then(|s| s.checkpoint_every).unwrap_or(50),
                 seed,
+            },
+            assess: super::assess::AssessSettings {
+                seed,
+                ..Default::default()
             },
         }
     }
@@ -93,6 +99,9 @@ pub struct JobReport {
     pub fits: FitReport,
     /// The posterior summary of the last model.
     pub posterior: PosteriorSummary,
+    /// Comparison, resonance diagnosis and stability (when the run file
+    /// fits both a Keplerian and a dynamical model).
+    pub assessment: Option<super::assess::Assessment>,
     /// Files written, relative to the output folder.
     pub files: Vec<String>,
 }
@@ -215,12 +224,34 @@ pub fn run_job(
     write_file(out, "posterior-histograms.svg", hist.as_bytes(), &mut files)?;
     write_file(out, "posterior-pairs.svg", pairs_svg.as_bytes(), &mut files)?;
 
+    let kep = fits
+        .fits
+        .iter()
+        .position(|f| f.kind == ModelKind::Keplerian);
+    let dynf = fits
+        .fits
+        .iter()
+        .rposition(|f| f.kind != ModelKind::Keplerian);
+    let assessment = match (kep, dynf) {
+        (Some(k), Some(d)) => Some(super::assess::assess(
+            &models[k].0,
+            &models[k].1,
+            &models[d].0,
+            &models[d].1,
+            Some((last_model, &last_fit.values, &out.join("samples.csv"))),
+            &settings.assess,
+            out,
+            &mut files,
+        )?),
+        _ => None,
+    };
     let system = run.star.name.clone().unwrap_or_else(|| name.to_string());
     let report = JobReport {
         system,
         search: search_report,
         fits,
         posterior,
+        assessment,
         files: files.clone(),
     };
     let mut dummy = Vec::new();
@@ -280,5 +311,72 @@ pub fn job_summary(r: &JobReport) -> String {
             i.median - i.lower_68
         );
     }
+    if let Some(a) = &r.assessment {
+        let dec = &a.comparison.decision;
+        let flag = serde_json::to_string(&dec.flag).unwrap_or_default();
+        s += &format!("flag: {}\n", flag.trim_matches('"'));
+        for reason in &dec.reasons {
+            s += &format!("  - {reason}\n");
+        }
+        s += &format!(
+            "divergence horizon: {}\n",
+            horizon_text(&a.comparison.horizon.outcome)
+        );
+        for p in &a.diagnosis.precession {
+            let nb = p
+                .nbody
+                .rate()
+                .map_or("undefined".into(), |r| format!("{:+.4}", r.rate_deg_per_yr));
+            let ll = p
+                .laplace_lagrange_mean_deg_per_yr
+                .map_or("–".into(), |v| format!("{v:+.4}"));
+            s += &format!(
+                "dϖ/dt planet {}: N-body {nb} deg/yr, Laplace–Lagrange {ll} deg/yr\n",
+                p.planet + 1
+            );
+        }
+        s += &format!(
+            "best fit over {:.0} outer orbits: {:?}",
+            a.stability.survival_orbits, a.stability.verdict
+        );
+        if let Some(m) = &a.megno {
+            s += &format!(", MEGNO ⟨Y⟩ = {:.3} ({:?})", m.mean_y, m.classification);
+        }
+        s += "\n";
+        if let Some(sv) = &a.survey {
+            s += &format!(
+                "posterior survey: {}/{} samples stable ({:.0} %, 95 % interval {:.0}–{:.0} %)\n",
+                sv.n_stable,
+                sv.n_samples,
+                100.0 * sv.stable_fraction.unwrap_or(0.0),
+                100.0 * sv.interval.lower,
+                100.0 * sv.interval.upper
+            );
+        }
+    }
     s.trim_end().to_string()
+}
+
+/// The horizon in words.
+fn horizon_text(h: &crate::compare::horizon::HorizonOutcome) -> String {
+    use crate::compare::horizon::HorizonOutcome as H;
+    match *h {
+        H::AtLastObservation { difference_m_s } => {
+            format!("already at the last observation (|Δv| = {difference_m_s:.2} m/s)")
+        }
+        H::Reached {
+            epoch_d,
+            after_last_yr,
+            ..
+        } => {
+            format!("{after_last_yr:.2} yr after the last observation (BJD {epoch_d:.1})")
+        }
+        H::BeyondSpan {
+            span_d,
+            max_difference_m_s,
+        } => format!(
+            "beyond {:.0} yr after the data (largest |Δv| {max_difference_m_s:.3} m/s)",
+            span_d / crate::units::JULIAN_YEAR_D
+        ),
+    }
 }

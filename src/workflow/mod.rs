@@ -3,6 +3,7 @@
 //! dataset and a run file, returning a serialisable report. The command
 //! line is a thin layer over these.
 
+pub mod assess;
 pub mod fitting;
 pub mod job;
 pub mod pictures;
