@@ -98,6 +98,9 @@ fn report_from_fits_flags_interaction() {
     };
     let kf = fit_model(&km, &[nudge(&km, &kv)], &FitSettings::default()).unwrap();
     let df = fit_model(&dm, &[nudge(&dm, &dv)], &FitSettings::default()).unwrap();
+    // Evaluate each model as its fit did (the fit holds the WH step fixed).
+    let km = km.with_wh_step(kf.wh_step);
+    let dm = dm.with_wh_step(df.wh_step);
     let k = ModelAt::from_fit(&km, &kf, "Keplerian").unwrap();
     let d = ModelAt::from_fit(&dm, &df, "dynamical").unwrap();
     let report = build_report(&k, &d, Vec::new(), None, &ReportSettings::default()).unwrap();

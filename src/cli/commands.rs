@@ -164,7 +164,7 @@ fn fit_pictures(
     for f in &report.fits {
         let m = apsidal::config::build_model(run, data, f.kind, name)
             .map_err(|e| internal(e.to_string()))?;
-        models.push((m, f.fit.values.clone()));
+        models.push((m.with_wh_step(f.fit.wh_step), f.fit.values.clone()));
     }
     let pairs: Vec<(&apsidal::fit::models::RvModel, &[f64])> =
         models.iter().map(|(m, v)| (m, v.as_slice())).collect();
@@ -232,7 +232,8 @@ fn sample(cli: &Cli, a: &SampleArgs) -> Result<(), CliError> {
         )));
     };
     let model = apsidal::config::build_model(&run, &data, last.kind, &name)
-        .map_err(|e| setup_error(e, &a.run))?;
+        .map_err(|e| setup_error(e, &a.run))?
+        .with_wh_step(last.fit.wh_step);
     let section = run.sampler;
     let steps = a.steps.or(section.map(|s| s.steps)).unwrap_or(2000);
     let settings = PosteriorSettings {
@@ -364,7 +365,8 @@ fn fitted(
         )));
     };
     let model = apsidal::config::build_model(run, data, last.kind, name)
-        .map_err(|e| CliError::BadInput(e.to_string()))?;
+        .map_err(|e| CliError::BadInput(e.to_string()))?
+        .with_wh_step(last.fit.wh_step);
     Ok((model, last.fit.values.clone()))
 }
 

@@ -425,6 +425,23 @@ impl RvModel {
         Ok(out)
     }
 
+    /// A copy of the model with the Wisdom–Holman step set to `step` (days)
+    /// when it is `Some` and the model integrates with Wisdom–Holman: the
+    /// way to evaluate a model exactly as a fit that held its step fixed
+    /// did ([`crate::fit::best_fit::FitResult::wh_step`]).
+    pub fn with_wh_step(&self, step: Option<f64>) -> RvModel {
+        let mut out = self.clone();
+        if let (Some(h), IntegratorChoice::WisdomHolman { corrector, .. }) =
+            (step, self.dynamics.integrator)
+        {
+            out.dynamics.integrator = IntegratorChoice::WisdomHolman {
+                step: Some(h),
+                corrector,
+            };
+        }
+        out
+    }
+
     /// Residuals data − model (m/s) into `out`.
     pub fn residuals(&self, full: &[f64], out: &mut [f64]) -> Result<(), ModelError> {
         self.model_rv(full, out)?;

@@ -119,6 +119,7 @@ pub fn fit_run(
         }
         let fit = fit_model(&model, &starts, settings)
             .map_err(|source| WorkflowError::Fit { kind, source })?;
+        let model = model.with_wh_step(fit.wh_step);
         let planets = derive_planets(&model, &fit.values)?;
         let residual_rms = residual_rms(&model, &fit.values)?;
         fits.push(ModelFit {

@@ -169,7 +169,10 @@ pub fn run_job(
     let models: Vec<(RvModel, Vec<f64>)> = fits
         .fits
         .iter()
-        .map(|f| build_model(run, data, f.kind, name).map(|m| (m, f.fit.values.clone())))
+        .map(|f| {
+            build_model(run, data, f.kind, name)
+                .map(|m| (m.with_wh_step(f.fit.wh_step), f.fit.values.clone()))
+        })
         .collect::<Result<_, _>>()
         .map_err(WorkflowError::from)?;
     let pairs: Vec<(&RvModel, &[f64])> = models.iter().map(|(m, v)| (m, v.as_slice())).collect();
