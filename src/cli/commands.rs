@@ -278,7 +278,7 @@ fn posterior_pictures(summary: &PosteriorSummary, dir: &Path) -> Result<(), CliE
     let cols: Vec<(String, String, Vec<f64>)> = pictures::read_sample_columns(&text, &wanted)
         .into_iter()
         .map(|(n, v)| {
-            let unit = unit_of(&n).to_string();
+            let unit = pictures::parameter_unit(&n).to_string();
             (n, unit, v)
         })
         .collect();
@@ -287,19 +287,6 @@ fn posterior_pictures(summary: &PosteriorSummary, dir: &Path) -> Result<(), CliE
     write_text(&dir.join("posterior-histograms.svg"), &hist)?;
     write_text(&dir.join("posterior-pairs.svg"), &pairs)?;
     Ok(())
-}
-
-/// Unit of a parameter from its name.
-fn unit_of(name: &str) -> &'static str {
-    let field = name.rsplit('.').next().unwrap_or(name);
-    match field {
-        "period" => "d",
-        "semi_amplitude" | "offset" | "jitter" => "m/s",
-        "mean_longitude" | "inclination" | "node_difference" => "deg",
-        "slope" => "m/s/d",
-        "curvature" => "m/s/d²",
-        _ => "",
-    }
 }
 
 /// Posterior intervals as a short table.

@@ -220,7 +220,10 @@ pub fn run_job(
         .collect();
     let cols: Vec<(String, String, Vec<f64>)> = read_sample_columns(&csv, &wanted)
         .into_iter()
-        .map(|(n, v)| (n, String::new(), v))
+        .map(|(n, v)| {
+            let u = super::pictures::parameter_unit(&n).to_string();
+            (n, u, v)
+        })
         .collect();
     let (hist, pairs_svg) =
         posterior_pictures(&cols).map_err(|e| picture_err("posterior", e.to_string()))?;

@@ -294,3 +294,17 @@ pub fn read_sample_columns(text: &str, wanted: &[&str]) -> Vec<(String, Vec<f64>
         .map(|((_, n), c)| (n.to_string(), c))
         .collect()
 }
+
+/// Unit of a fit parameter from its name (for axis labels).
+pub fn parameter_unit(name: &str) -> &'static str {
+    let field = name.rsplit('.').next().unwrap_or(name);
+    match field {
+        "period" => "d",
+        "semi_amplitude" | "offset" | "jitter" => "m/s",
+        "mean_longitude" | "inclination" | "node_difference" => "deg",
+        "slope" => "m/s/d",
+        "curvature" => "m/s/d²",
+        "sqrt_e_cos_w" | "sqrt_e_sin_w" | "sin_i" => "1",
+        _ => "",
+    }
+}
