@@ -37,6 +37,14 @@ pub struct Global {
 /// Subcommands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// Keplerian-versus-dynamical comparison of a run file's fits: statistics,
+    /// divergence horizon, resonance diagnosis from a long integration,
+    /// stability of the dynamical solution, and the flag with its reasons.
+    /// The run file must list a Keplerian and a dynamical model.
+    #[command(
+        after_help = "Example:\n  apsidal compare demo-data/tellan/run.ron --out cmp\n  (writes cmp/comparison.txt, comparison.ron/json, diagnosis.*, stability.*, divergence.svg, angles-1.svg)"
+    )]
+    Compare(RunArgs),
     /// The whole job on an embedded, invented demo system: periodogram →
     /// Keplerian fit → dynamical fits → a short posterior run →
     /// comparison and flag → stability of the best fit and a survey of

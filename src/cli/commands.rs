@@ -32,6 +32,7 @@ pub fn dispatch(cli: &Cli) -> Result<(), CliError> {
         Command::Merge(a) => merge(cli, a),
         Command::Simulate(a) => simulate(cli, a),
         Command::Demo(a) => demo(cli, a),
+        Command::Compare(a) => compare(cli, a),
     }
 }
 
@@ -650,5 +651,53 @@ fn demo(cli: &Cli, a: &DemoArgs) -> Result<(), CliError> {
         cli,
         &format!("{} files in {}", report.files.len(), dir.display()),
     );
+    Ok(())
+}
+
+fn compare(cli: &Cli, a: &RunArgs) -> Result<(), CliError> {
+    use apsidal::fit::models::ModelKind;
+    use apsidal::workflow::assess::{AssessSettings, assess};
+    let (run, data) = load_run(&a.run)?;
+    let name = a.run.display().to_string();
+    let report = fit_run(&run, &data, &name, &FitSettings::default())
+        .map_err(|e| workflow_error(e, &a.run))?;
+    let kep = report.fits.iter().find(|f| f.kind == ModelKind::Keplerian);
+    let dynf = report
+        .fits
+        .iter()
+        .rev()
+        .find(|f| f.kind != ModelKind::Keplerian);
+    let (Some(kep), Some(dynf)) = (kep, dynf) else {
+        return Err(CliError::BadInput(format!(
+            "{name}: fit.models must list Keplerian and a dynamical model to compare them"
+        )));
+    };
+    let build = |f: &apsidal::workflow::fitting::ModelFit| {
+        apsidal::config::build_model(&run, &data, f.kind, &name)
+            .map(|m| m.with_wh_step(f.fit.wh_step))
+            .map_err(|e| CliError::BadInput(e.to_string()))
+    };
+    let (km, dm) = (build(kep)?, build(dynf)?);
+    let dir = out_dir(cli, Some(&run));
+    ensure_dir(&dir)?;
+    let seed = cli.global.seed.or(run.seed).unwrap_or(DEFAULT_SEED);
+    let settings = AssessSettings {
+        seed,
+        ..AssessSettings::default()
+    };
+    let mut files = Vec::new();
+    let a = assess(
+        &km,
+        &kep.fit.values,
+        &dm,
+        &dynf.fit.values,
+        None,
+        &settings,
+        &dir,
+        &mut files,
+    )
+    .map_err(|e| CliError::Internal(e.to_string()))?;
+    say(cli, &a.comparison.text_summary());
+    say(cli, &format!("results in {}", dir.display()));
     Ok(())
 }
