@@ -32,10 +32,10 @@
 //!   reference plane): Hill stability of each adjacent pair (Gladman 1993),
 //!   spacing in mutual Hill radii and AMD stability (Laskar & Petit 2017).
 //!   Absent for a single planet.
-//! * **Chaos indicator.** [`StabilityReport::megno`] is reserved for MEGNO
-//!   (Cincotta & Simó 2000) from the variational equations; it is `None`
-//!   until they are available, and asking for it with
-//!   [`RunSettings::megno`] is refused with [`StabilityError::MegnoUnavailable`].
+//! * **Chaos indicator.** With [`RunSettings::megno`], MEGNO ⟨Y⟩
+//!   (Cincotta & Simó 2000) of the same length and step from the
+//!   variational equations ([`crate::stability::megno::megno_run`]),
+//!   computed for runs that survive; [`StabilityReport::megno`] holds it.
 //!
 //! # Verdict
 //!
@@ -86,9 +86,9 @@ pub enum StabilityError {
         /// The limit.
         limit: u64,
     },
-    /// MEGNO was asked for but the variational equations are not available.
-    #[error("MEGNO is not available yet (needs the variational equations)")]
-    MegnoUnavailable,
+    /// MEGNO was asked for and could not be computed.
+    #[error("MEGNO: {0}")]
+    Megno(String),
     /// The solution's parameters could not be turned into a system.
     #[error(transparent)]
     Model(#[from] ModelError),
@@ -117,8 +117,8 @@ pub struct RunSettings {
     pub sample_every: u32,
     /// Largest number of steps one call may take (bounded work).
     pub max_steps: u64,
-    /// Compute MEGNO (reserved: refused until the variational equations
-    /// are available).
+    /// Also compute MEGNO ⟨Y⟩ over the same length with the same step
+    /// (about twice the cost of the run).
     pub megno: bool,
 }
 
@@ -163,9 +163,6 @@ impl RunSettings {
         }
         if self.sample_every == 0 {
             return bad("sample_every must be at least 1".into());
-        }
-        if self.megno {
-            return Err(StabilityError::MegnoUnavailable);
         }
         Ok(())
     }
@@ -272,8 +269,8 @@ pub struct StabilityReport {
     pub criteria: Option<CriteriaReport>,
     /// Why the criteria could not be evaluated, when they were not.
     pub criteria_error: Option<String>,
-    /// MEGNO ⟨Y⟩ at the end of the run (reserved; `None` until the
-    /// variational equations are available).
+    /// MEGNO ⟨Y⟩ at the end of the run (`None` unless asked for with
+    /// [`RunSettings::megno`], or when the run stopped on an event).
     pub megno: Option<f64>,
 }
 
@@ -518,6 +515,20 @@ pub fn run_stability(
         None => (Verdict::Stable, total as f64 * h),
         Some(ev) => (Verdict::Unstable(ev.kind), ev.time.max(0.0)),
     };
+    let megno = if settings.megno && event.is_none() {
+        use crate::nbody::variational::VariationalIntegrator;
+        use crate::nbody::wisdom_holman::WhSettings;
+        use crate::stability::megno::{MegnoSettings, megno_run};
+        let integ = VariationalIntegrator::WisdomHolman(WhSettings {
+            step: Some(h),
+            ..WhSettings::default()
+        });
+        let m = megno_run(system, integ, settings.orbits, &MegnoSettings::default())
+            .map_err(|e| StabilityError::Megno(e.to_string()))?;
+        Some(m.mean_y)
+    } else {
+        None
+    };
     Ok(StabilityReport {
         verdict,
         event,
@@ -533,7 +544,7 @@ pub fn run_stability(
         energy_error,
         criteria,
         criteria_error,
-        megno: None,
+        megno,
     })
 }
 
