@@ -120,6 +120,9 @@ pub struct RunLengthArgs {
     /// Largest number of steps of one run.
     #[arg(long, default_value_t = 100_000_000)]
     pub max_steps: u64,
+    /// Also compute MEGNO ⟨Y⟩ of each surviving run (about twice the cost).
+    #[arg(long)]
+    pub megno: bool,
 }
 
 /// Arguments of `stability`.

@@ -325,6 +325,7 @@ fn run_settings(a: &RunLengthArgs) -> apsidal::stability::run::RunSettings {
         step: a.step,
         hill_radii: a.hill_radii,
         max_steps: a.max_steps,
+        megno: a.megno,
         ..Default::default()
     }
 }
