@@ -262,3 +262,30 @@ fn bad_parameters_are_refused() {
     ));
     assert!(keplerian_rv(1.0, 10.0, 1.0, 1.0, 0.0, 0.0, 0.0).is_none());
 }
+
+/// Finite but enormous parameters must give a typed error, not ±∞
+/// (the case the hardening property test found: P = K = γ = f64::MAX).
+#[test]
+fn enormous_parameters_are_refused_not_infinite() {
+    use apsidal::model::keplerian::{
+        KeplerianError, KeplerianParams, PlanetSignal, Trend, keplerian_model_rv,
+    };
+    let params = KeplerianParams {
+        t_ref: 2_460_000.0,
+        planets: vec![PlanetSignal {
+            period: f64::MAX,
+            semi_amplitude: f64::MAX,
+            eccentricity: 0.0,
+            omega_star: 0.0,
+            mean_anomaly_ref: 0.0,
+        }],
+        offsets: vec![f64::MAX],
+        trend: Trend::None,
+    };
+    let mut out = [0.0];
+    let r = keplerian_model_rv(&params, &[0.0], &[0], &mut out);
+    assert!(
+        matches!(r, Err(KeplerianError::Overflow { index: 0 })),
+        "{r:?}"
+    );
+}

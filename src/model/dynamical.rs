@@ -384,6 +384,11 @@ impl DynamicalModel {
             out[i] += params.offsets[instruments[i]]
                 + dt * (params.trend.linear + dt * params.trend.quadratic);
         }
+        if let Some(i) = out.iter().position(|v| !v.is_finite()) {
+            return Err(DynamicalError::InvalidParameter(format!(
+                "epoch {i}: the model RV overflows (parameters too large)"
+            )));
+        }
         Ok(())
     }
 }

@@ -205,6 +205,12 @@ pub enum KeplerianError {
         /// Position of the epoch in the slice.
         index: usize,
     },
+    /// The model RV overflowed (parameters too large to represent the sum).
+    #[error("epoch {index}: the model RV overflows (parameters too large)")]
+    Overflow {
+        /// Position of the epoch in the slice.
+        index: usize,
+    },
     /// An instrument index has no offset.
     #[error("epoch {index}: instrument {instrument} has no offset ({n_offsets} offsets given)")]
     Instrument {
@@ -410,6 +416,11 @@ pub fn keplerian_model_rv(
     }
     for planet in &params.planets {
         Prepared::new(planet).add_to(t_ref, epochs, out);
+    }
+    // Finite but enormous parameters can overflow the sum: refuse rather
+    // than hand out ±∞ (found by the hardening property tests).
+    if let Some(index) = out.iter().position(|v| !v.is_finite()) {
+        return Err(KeplerianError::Overflow { index });
     }
     Ok(())
 }
