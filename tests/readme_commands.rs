@@ -10,7 +10,9 @@
 //! their reason. Shell blocks under another info string (`bash`, `shell`,
 //! `console`, …) are refused, so that no command escapes the rule. Run
 //! blocks may hold only `apsidal …` and `cargo run --release -- …`
-//! commands. The `rust` block of "Using the crate from Rust" is compiled
+//! commands. A block marked `<!-- output: CMD -->` is an excerpt of what
+//! CMD (run from a `sh` block) prints: each of its lines must be a line of
+//! that output. The `rust` block of "Using the crate from Rust" is compiled
 //! and run here too, and checked to be the README's text.
 
 use std::path::{Path, PathBuf};
@@ -25,6 +27,8 @@ struct Block {
     info: String,
     /// Reason of a `<!-- not run: … -->` marker before the fence.
     not_run: Option<String>,
+    /// Command of an `<!-- output: … -->` marker before the fence.
+    output_of: Option<String>,
     /// The lines inside the fence.
     body: Vec<String>,
 }
@@ -39,13 +43,17 @@ fn blocks(text: &str) -> Vec<Block> {
     let mut i = 0;
     while i < lines.len() {
         if let Some(info) = lines[i].trim_start().strip_prefix("```") {
-            let not_run = lines[..i]
-                .iter()
-                .rev()
-                .find(|l| !l.trim().is_empty())
-                .and_then(|l| l.trim().strip_prefix("<!-- not run:"))
-                .and_then(|l| l.strip_suffix("-->"))
-                .map(|r| r.trim().to_string());
+            let marker = |kind: &str| {
+                lines[..i]
+                    .iter()
+                    .rev()
+                    .find(|l| !l.trim().is_empty())
+                    .and_then(|l| l.trim().strip_prefix("<!--"))
+                    .and_then(|l| l.strip_suffix("-->"))
+                    .and_then(|l| l.trim().strip_prefix(kind))
+                    .map(|r| r.trim().to_string())
+            };
+            let (not_run, output_of) = (marker("not run:"), marker("output:"));
             let start = i;
             let mut body = Vec::new();
             i += 1;
@@ -58,6 +66,7 @@ fn blocks(text: &str) -> Vec<Block> {
                 line: start + 1,
                 info: info.trim().to_string(),
                 not_run,
+                output_of,
                 body,
             });
         }
@@ -131,6 +140,7 @@ fn readme_shell_blocks_run_verbatim() {
         std::env::var("PATH").unwrap_or_default()
     );
     let mut ran = 0;
+    let mut outputs: Vec<(String, String)> = Vec::new();
     for b in &all {
         if ["bash", "shell", "console", "zsh", "shell-session"].contains(&b.info.as_str()) {
             panic!(
@@ -173,7 +183,30 @@ fn readme_shell_blocks_run_verbatim() {
                 o.status.code(),
                 String::from_utf8_lossy(&o.stderr)
             );
+            outputs.push((verbatim, String::from_utf8_lossy(&o.stdout).into_owned()));
             ran += 1;
+        }
+    }
+    // Output excerpts: every line of a block marked `<!-- output: CMD -->`
+    // is a line of what CMD (run above from a `sh` block) printed.
+    for b in all.iter().filter(|b| b.output_of.is_some()) {
+        let cmd = b.output_of.as_deref().unwrap_or_default();
+        let Some((_, stdout)) = outputs
+            .iter()
+            .find(|(c, _)| c.split('#').next().unwrap().trim() == cmd)
+        else {
+            panic!(
+                "README.md:{}: output of `{cmd}`, which no `sh` block runs",
+                b.line
+            );
+        };
+        let printed: Vec<&str> = stdout.lines().map(str::trim_end).collect();
+        for l in b.body.iter().filter(|l| !l.trim().is_empty()) {
+            assert!(
+                printed.contains(&l.trim_end()),
+                "README.md:{}: the excerpt line\n{l}\nis not in the output of `{cmd}`:\n{stdout}",
+                b.line
+            );
         }
     }
     // The demo command at least (README: "The two commands").
@@ -190,6 +223,10 @@ fn fence_rule_parses_markers_and_continuations() {
     assert_eq!(b[1].not_run, None);
     assert_eq!(commands(&b[0]), vec!["apsidal a --b c".to_string()]);
     assert_eq!(b[1].line, 9);
+    assert_eq!(b[0].output_of, None);
+    let c = blocks("<!-- output: apsidal x -->\n```text\nline\n```\n");
+    assert_eq!(c[0].output_of.as_deref(), Some("apsidal x"));
+    assert_eq!(c[0].not_run, None);
 }
 
 // README: begin
