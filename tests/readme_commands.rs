@@ -101,6 +101,17 @@ fn commands(block: &Block) -> Vec<String> {
     out
 }
 
+/// The first non-blank line of an excerpt that is not a line of `stdout`
+/// (trailing spaces ignored), if any.
+fn stale_line<'a>(excerpt: &'a [String], stdout: &str) -> Option<&'a str> {
+    let printed: Vec<&str> = stdout.lines().map(str::trim_end).collect();
+    excerpt
+        .iter()
+        .filter(|l| !l.trim().is_empty())
+        .map(|l| l.trim_end())
+        .find(|l| !printed.contains(l))
+}
+
 fn copy_dir(from: &Path, to: &Path) {
     std::fs::create_dir_all(to).unwrap();
     for e in std::fs::read_dir(from).unwrap() {
@@ -200,10 +211,8 @@ fn readme_shell_blocks_run_verbatim() {
                 b.line
             );
         };
-        let printed: Vec<&str> = stdout.lines().map(str::trim_end).collect();
-        for l in b.body.iter().filter(|l| !l.trim().is_empty()) {
-            assert!(
-                printed.contains(&l.trim_end()),
+        if let Some(l) = stale_line(&b.body, stdout) {
+            panic!(
                 "README.md:{}: the excerpt line\n{l}\nis not in the output of `{cmd}`:\n{stdout}",
                 b.line
             );
@@ -227,6 +236,20 @@ fn fence_rule_parses_markers_and_continuations() {
     let c = blocks("<!-- output: apsidal x -->\n```text\nline\n```\n");
     assert_eq!(c[0].output_of.as_deref(), Some("apsidal x"));
     assert_eq!(c[0].not_run, None);
+    // An excerpt must match whole lines, indentation included.
+    let out = "head\n  sin_i   0.98  \nflag: resonant\n";
+    let ok = [
+        "  sin_i   0.98".to_string(),
+        String::new(),
+        "flag: resonant".into(),
+    ];
+    assert_eq!(stale_line(&ok, out), None);
+    let stale = ["flag: resonant".to_string(), "  sin_i   0.97".into()];
+    assert_eq!(stale_line(&stale, out), Some("  sin_i   0.97"));
+    assert_eq!(
+        stale_line(&["sin_i   0.98".to_string()], out),
+        Some("sin_i   0.98")
+    );
 }
 
 // README: begin
