@@ -14,6 +14,9 @@
 //! CMD (run from a `sh` block) prints: each of its lines must be a line of
 //! that output. The `rust` block of "Using the crate from Rust" is compiled
 //! and run here too, and checked to be the README's text.
+//!
+//! Unix only: the README's commands are POSIX shell.
+#![cfg(unix)]
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
