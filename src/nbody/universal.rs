@@ -265,6 +265,7 @@ pub fn f_and_g_lanes<const L: usize>(
 #[derive(Debug, Clone, Copy, Default)]
 struct Solve {
     r0: f64,
+    inv_r0: f64,
     eta0: f64,
     beta: f64,
     zeta0: f64,
@@ -318,7 +319,8 @@ fn solve_setup(
         }));
     }
     let eta0 = pos.dot(vel);
-    let mut beta = 2.0 * mu / r0 - v2;
+    let inv_r0 = 1.0 / r0;
+    let mut beta = 2.0 * mu * inv_r0 - v2;
     if beta.abs() < 1e-2 * v2 {
         // Near-parabolic: 2μ/r₀ and v₀² nearly cancel; recompute β with
         // error-free products and sums (Dekker 1971; Ogita, Rump & Oishi
@@ -333,7 +335,16 @@ fn solve_setup(
         let period = TAU * mu / (beta * beta.sqrt());
         dt -= period * (dt / period).round();
         if dt == 0.0 {
-            return Setup::Done(fg_from(0.0, [1.0, 0.0, 0.0, 0.0], beta, r0, eta0, mu, 0));
+            return Setup::Done(fg_from(
+                0.0,
+                [1.0, 0.0, 0.0, 0.0],
+                beta,
+                r0,
+                inv_r0,
+                eta0,
+                mu,
+                0,
+            ));
         }
     }
     // Bracket [lo, hi] of the root, which is unique since f′ = r > 0:
@@ -349,11 +360,11 @@ fn solve_setup(
             // Three terms of s(t) = ∫ dt / r about t₀: ds/dt = 1/r,
             // d²s/dt² = −ṙ/r², d³s/dt³ = (3ṙ² − v²)/r³ + μ/r⁴ (from
             // r̈ = (v² − ṙ²)/r − μ/r²), used when they form a series.
-            let inv_r = 1.0 / r0;
+            let inv_r = inv_r0;
             let rdot = eta0 * inv_r;
             let s1 = dt * inv_r;
             let t2 = -0.5 * rdot * s1 * s1;
-            let t3 = ((3.0 * rdot * rdot - v2) + mu * inv_r) * s1 * s1 * s1 / 6.0;
+            let t3 = ((3.0 * rdot * rdot - v2) + mu * inv_r) * s1 * s1 * s1 * (1.0 / 6.0);
             let mut s0 = if t2.abs() + t3.abs() < 0.5 * s1.abs() {
                 s1 + t2 + t3
             } else {
@@ -388,6 +399,7 @@ fn solve_setup(
     };
     Setup::Iterate(Solve {
         r0,
+        inv_r0,
         eta0,
         beta,
         zeta0,
@@ -407,6 +419,7 @@ fn solve_iteration(st: &mut Solve, iteration: usize) -> Option<Result<FandG, Dri
     const LAGUERRE_N: f64 = 5.0;
     let Solve {
         r0,
+        inv_r0,
         eta0,
         beta,
         zeta0,
@@ -445,8 +458,8 @@ fn solve_iteration(st: &mut Solve, iteration: usize) -> Option<Result<FandG, Dri
     // Laguerre–Conway step far from the root; Halley's step (also
     // cubically convergent, no square root) once the Newton step is
     // below 1 % of s.
-    let newton = -f0 / f1;
-    let delta = if newton.abs() < 1e-2 * s.abs() {
+    // (|f₀/f₁| < 1e-2 |s| tested without a division.)
+    let delta = if f0.abs() < 1e-2 * (s * f1).abs() {
         -f0 * f1 / (f1 * f1 - 0.5 * f0 * f2)
     } else {
         let disc = ((LAGUERRE_N - 1.0) * (LAGUERRE_N - 1.0) * f1 * f1
@@ -469,7 +482,11 @@ fn solve_iteration(st: &mut Solve, iteration: usize) -> Option<Result<FandG, Dri
     // chase rounding noise.)
     let small = delta.is_finite() && delta.abs() <= 1e-6 * s.abs();
     if small && s + delta > lo && s + delta < hi {
-        let (d, d2, d3) = (delta, 0.5 * delta * delta, delta * delta * delta / 6.0);
+        let (d, d2, d3) = (
+            delta,
+            0.5 * delta * delta,
+            delta * delta * delta * (1.0 / 6.0),
+        );
         let g0n = g0 - beta * (d * g1 + d2 * g0 - d3 * beta * g1);
         let g1n = g1 + d * g0 - beta * (d2 * g1 + d3 * g0);
         let g2n = g2 + d * g1 + d2 * g0 - d3 * beta * g1;
@@ -479,6 +496,7 @@ fn solve_iteration(st: &mut Solve, iteration: usize) -> Option<Result<FandG, Dri
             [g0n, g1n, g2n, g3n],
             beta,
             r0,
+            inv_r0,
             eta0,
             mu,
             iteration + 1,
@@ -490,6 +508,7 @@ fn solve_iteration(st: &mut Solve, iteration: usize) -> Option<Result<FandG, Dri
             [g0, g1, g2, g3],
             beta,
             r0,
+            inv_r0,
             eta0,
             mu,
             iteration + 1,
@@ -516,12 +535,14 @@ fn solve_iteration(st: &mut Solve, iteration: usize) -> Option<Result<FandG, Dri
 
 /// f and g from the converged universal anomaly `s` and its G₀..G₃
 /// (Danby 1988, §6.9).
+#[allow(clippy::too_many_arguments)]
 #[inline(always)]
 fn fg_from(
     s: f64,
     gk: [f64; 4],
     beta: f64,
     r0: f64,
+    inv_r0: f64,
     eta0: f64,
     mu: f64,
     iterations: usize,
@@ -532,7 +553,6 @@ fn fg_from(
         return Err(DriftError::NoConvergence { iterations });
     }
     let inv_r = 1.0 / r;
-    let inv_r0 = 1.0 / r0;
     let mu_g2 = mu * g2;
     Ok(FandG {
         f: 1.0 - mu_g2 * inv_r0,

@@ -97,7 +97,7 @@ use super::system::{Snapshot, System};
 use super::universal::{
     DriftError, FandG, drift_tangent_from, drift_tangent_map, f_and_g_lanes, kepler_drift,
 };
-use super::variational::{Tangent, Variational, tidal_accelerations};
+use super::variational::{Tangent, Variational};
 use crate::kepler::state_to_elements;
 use crate::units::{C_AU_PER_DAY, G};
 
@@ -194,6 +194,12 @@ struct Work {
     pos: Vec<Vector3<f64>>,
     acc: Vec<Vector3<f64>>,
     jacc: Vec<Vector3<f64>>,
+    /// When true (tangent vectors carried) the kick keeps its geometry for
+    /// the tangent kick: per pair i < j (row-major n×n) d = x_j − x_i,
+    /// 1/d³ and 3/d²; per planet μ_k/r'³ and 3/r'².
+    save: bool,
+    pair: Vec<(Vector3<f64>, f64, f64)>,
+    kep: Vec<(f64, f64)>,
 }
 
 /// Tangent vectors in Jacobi coordinates: `ntan` blocks of n entries.
@@ -262,6 +268,9 @@ impl WisdomHolman {
                 pos: z.clone(),
                 acc: z.clone(),
                 jacc: z.clone(),
+                save: false,
+                pair: vec![(Vector3::zeros(), 0.0, 0.0); n * n],
+                kep: vec![(0.0, 0.0); n],
             },
             tan: Tangents::default(),
             jr: z.clone(),
@@ -319,6 +328,9 @@ impl WisdomHolman {
         ] {
             v.resize(n, z);
         }
+        self.w.pair.resize(n * n, (z, 0.0, 0.0));
+        self.w.kep.resize(n, (0.0, 0.0));
+        self.w.save = false;
         let b = &mut self.b;
         b.masses.clear();
         b.masses.extend_from_slice(&system.masses);
@@ -771,7 +783,21 @@ fn kick_tan(b: &Bodies, w: &Work, tn: &mut Tangents, scratch: bool, jr: &[Vector
     };
     for (r, v) in tr.chunks_exact(n).zip(tv.chunks_exact_mut(n)) {
         jacobi::jacobi_to_inertial_with(&b.ratio, r, &mut tn.dpos);
-        tidal_accelerations(&b.masses, &w.pos, &tn.dpos, &mut tn.dacc);
+        // The tidal tensor of variational::tidal_accelerations, with the
+        // pair geometry kept by the kick.
+        let (dpos, dacc) = (&tn.dpos, &mut tn.dacc);
+        for a in dacc.iter_mut() {
+            *a = Vector3::zeros();
+        }
+        for i in 0..n {
+            for j in (i + 1)..n {
+                let (d, inv_r3, three_r2) = w.pair[i * n + j];
+                let dd = dpos[j] - dpos[i];
+                let t = (dd - d * (three_r2 * d.dot(&dd))) * inv_r3;
+                dacc[i] += t * b.gm[j];
+                dacc[j] -= t * b.gm[i];
+            }
+        }
         if b.pn != 0.0 {
             let m0 = b.masses[0];
             for k in 1..n {
@@ -787,9 +813,8 @@ fn kick_tan(b: &Bodies, w: &Work, tn: &mut Tangents, scratch: bool, jr: &[Vector
         for k in 1..n {
             let rk = jr[k];
             let dr = r[k];
-            let r2 = rk.norm_squared();
-            let inv_r3 = 1.0 / (r2 * r2.sqrt());
-            let da = tn.djacc[k] + (dr - rk * (3.0 * rk.dot(&dr) / r2)) * (b.mu[k] * inv_r3);
+            let (mu_r3, three_r2) = w.kep[k];
+            let da = tn.djacc[k] + (dr - rk * (three_r2 * rk.dot(&dr))) * mu_r3;
             v[k] += da * h;
         }
     }
@@ -812,6 +837,9 @@ fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], 
             let inv_r3 = 1.0 / (r2 * r2.sqrt());
             acc[i] += d * (b.gm[j] * inv_r3);
             acc[j] -= d * (b.gm[i] * inv_r3);
+            if w.save {
+                w.pair[i * n + j] = (d, inv_r3, 3.0 / r2);
+            }
         }
     }
     if b.pn != 0.0 {
@@ -829,8 +857,12 @@ fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], 
     for k in 1..n {
         let r = jr[k];
         let r2 = r.norm_squared();
-        let a = w.jacc[k] + r * (b.mu[k] / (r2 * r2.sqrt()));
+        let mu_r3 = b.mu[k] / (r2 * r2.sqrt());
+        let a = w.jacc[k] + r * mu_r3;
         jv[k] += a * h;
+        if w.save {
+            w.kep[k] = (mu_r3, 3.0 / r2);
+        }
     }
 }
 
@@ -918,6 +950,7 @@ impl Variational for WisdomHolman {
         }
         tn.out = tangents.to_vec();
         tn.ntan = nt;
+        self.w.save = nt > 0;
         Ok(())
     }
 
