@@ -175,16 +175,18 @@ struct Bodies {
 
 /// How the Kepler drifts of the planets in one Wisdom–Holman drift are
 /// solved. Both give bitwise the same state (the lanes run the scalar
-/// solver's operations; tested), so this only changes the speed.
+/// solver's operations; tested), so this only changes the speed. The
+/// interleaved solve is 1.2× faster for the solver alone but measured no
+/// faster within a whole step (BENCHMARKS.md, N-body), so the simpler
+/// scalar path is the default.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum DriftKernel {
     /// Up to four planets at a time by
-    /// [`super::universal::f_and_g_lanes`], their iterations interleaved
-    /// (the default).
-    #[default]
+    /// [`super::universal::f_and_g_lanes`], their iterations interleaved.
     Interleaved,
     /// One planet after the other by [`super::universal::f_and_g`] (the
-    /// baseline of the benchmarks).
+    /// default).
+    #[default]
     Scalar,
 }
 
@@ -656,8 +658,8 @@ fn default_step(b: &Bodies, jr: &[Vector3<f64>], jv: &[Vector3<f64>]) -> f64 {
 /// failure returns the planet index and the solver's error (that planet and
 /// the ones after it untouched, the ones before it drifted). No starting
 /// guess is passed: the solver's series start is better than the previous
-/// step's anomaly (measured). Planets are solved up to four at a time with
-/// interleaved iterations unless [`DriftKernel::Scalar`] is chosen.
+/// step's anomaly (measured). With [`DriftKernel::Interleaved`] planets are
+/// solved up to four at a time with interleaved iterations.
 #[inline]
 fn drift_all(
     b: &Bodies,
