@@ -19,8 +19,8 @@ use apsidal::model::dynamical::{
     DynamicalModel, DynamicalParams, DynamicalPlanet, DynamicalWorkspace, IntegratorChoice, Trend,
 };
 use apsidal::nbody::system::{JacobiPlanet, OrbitPhase, OrbitSize};
-use apsidal::nbody::universal::kepler_drift;
-use apsidal::nbody::wisdom_holman::{Corrector, WhSettings, WisdomHolman};
+use apsidal::nbody::universal::{f_and_g, f_and_g_lanes, kepler_drift};
+use apsidal::nbody::wisdom_holman::{Corrector, DriftKernel, WhSettings, WisdomHolman};
 use apsidal::nbody::{Integrator, Snapshot, System};
 use criterion::measurement::{Measurement, ValueFormatter};
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
@@ -129,6 +129,35 @@ fn wh_step(c: &mut Criterion<CpuTime>) {
             kepler_drift(&mut r, &mut v, black_box(2.96e-4), black_box(0.5), None).unwrap();
         })
     });
+    // Two drifts of the 2-planet system's orbits, solved one after the
+    // other (scalar) and interleaved (lanes): the solver alone.
+    let sys2 = system(2);
+    let mu2: [f64; 2] =
+        std::array::from_fn(|l| apsidal::units::G * sys2.masses[..=l + 1].iter().sum::<f64>());
+    let pos2: [Vector3<f64>; 2] =
+        std::array::from_fn(|l| sys2.state.pos[l + 1] - sys2.state.pos[0]);
+    let vel2: [Vector3<f64>; 2] =
+        std::array::from_fn(|l| sys2.state.vel[l + 1] - sys2.state.vel[0]);
+    g.throughput(Throughput::Elements(2));
+    g.bench_function("two_drift_solves_scalar", |b| {
+        b.iter(|| {
+            let p = black_box(&pos2);
+            let v = black_box(&vel2);
+            let a = f_and_g(&p[0], &v[0], mu2[0], black_box(0.5), None).unwrap();
+            let c = f_and_g(&p[1], &v[1], mu2[1], black_box(0.5), None).unwrap();
+            black_box((a, c))
+        })
+    });
+    g.bench_function("two_drift_solves_interleaved", |b| {
+        b.iter(|| {
+            black_box(f_and_g_lanes(
+                black_box(&pos2),
+                black_box(&vel2),
+                &mu2,
+                black_box(0.5),
+            ))
+        })
+    });
     g.throughput(Throughput::Elements(STEPS));
     for n in [1usize, 2, 3, 5, 8] {
         let sys = system(n);
@@ -136,14 +165,23 @@ fn wh_step(c: &mut Criterion<CpuTime>) {
             step: Some(0.5),
             ..WhSettings::default()
         };
-        let mut wh = WisdomHolman::new(&sys, settings).unwrap();
-        let mut out = Snapshot::zeros(n + 1, 0.0);
-        g.bench_function(format!("{n}_planets_x{STEPS}_steps"), |b| {
-            b.iter(|| {
-                let t = wh.time() + STEPS as f64 * 0.5;
-                wh.advance_to(black_box(t), &mut out).unwrap();
-            })
-        });
+        for (name, kernel) in [
+            ("scalar", DriftKernel::Scalar),
+            ("interleaved", DriftKernel::Interleaved),
+        ] {
+            if n == 1 && kernel == DriftKernel::Interleaved {
+                continue; // one planet: the same scalar drift
+            }
+            let mut wh = WisdomHolman::new(&sys, settings).unwrap();
+            wh.set_drift_kernel(kernel);
+            let mut out = Snapshot::zeros(n + 1, 0.0);
+            g.bench_function(format!("{n}_planets_{name}_x{STEPS}_steps"), |b| {
+                b.iter(|| {
+                    let t = wh.time() + STEPS as f64 * 0.5;
+                    wh.advance_to(black_box(t), &mut out).unwrap();
+                })
+            });
+        }
     }
     g.finish();
 }

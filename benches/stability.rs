@@ -14,7 +14,7 @@ use std::time::Duration;
 
 use apsidal::nbody::system::{JacobiPlanet, OrbitPhase, OrbitSize};
 use apsidal::nbody::variational::{InitialFrame, Variational, VariationalIntegrator, unit_tangent};
-use apsidal::nbody::wisdom_holman::{WhSettings, WisdomHolman};
+use apsidal::nbody::wisdom_holman::{DriftKernel, WhSettings, WisdomHolman};
 use apsidal::nbody::{Integrator, Snapshot, System};
 use apsidal::stability::megno::{MegnoSettings, megno_run};
 use criterion::measurement::{Measurement, ValueFormatter};
@@ -133,28 +133,39 @@ fn wh_step_variational(c: &mut Criterion<CpuTime>) {
     g.throughput(Throughput::Elements(STEPS));
     for n in [2, 3] {
         let sys = system(n);
-        for ntan in [0usize, 1, 6 * n] {
+        for (ntan, kernel) in [0usize, 1, 6 * n]
+            .into_iter()
+            .flat_map(|t| [(t, DriftKernel::Scalar), (t, DriftKernel::Interleaved)])
+        {
             let mut wh = WisdomHolman::new(&sys, settings()).unwrap();
+            wh.set_drift_kernel(kernel);
+            let kname = match kernel {
+                DriftKernel::Scalar => "scalar",
+                DriftKernel::Interleaved => "interleaved",
+            };
             let tans: Vec<_> = (0..ntan)
                 .map(|j| unit_tangent(&sys, InitialFrame::Jacobi, 1 + (j / 6) % n, j % 6))
                 .collect();
             wh.set_tangents(&tans).unwrap();
             let mut out = Snapshot::zeros(n + 1, 0.0);
-            g.bench_function(format!("{n}_planets_{ntan}_tangents_x{STEPS}_steps"), |b| {
-                b.iter(|| {
-                    let t = wh.time() + STEPS as f64 * 2.0;
-                    wh.advance_to(black_box(t), &mut out).unwrap();
-                    // Keep the tangent vector finite over long benches.
-                    if ntan > 0 {
-                        let norm = wh.output_tangents()[0].pos[1].norm().max(1e-300);
-                        if norm > 1e50 {
-                            for i in 0..ntan {
-                                wh.scale_tangent(i, 1e-50);
+            g.bench_function(
+                format!("{n}_planets_{ntan}_tangents_{kname}_x{STEPS}_steps"),
+                |b| {
+                    b.iter(|| {
+                        let t = wh.time() + STEPS as f64 * 2.0;
+                        wh.advance_to(black_box(t), &mut out).unwrap();
+                        // Keep the tangent vector finite over long benches.
+                        if ntan > 0 {
+                            let norm = wh.output_tangents()[0].pos[1].norm().max(1e-300);
+                            if norm > 1e50 {
+                                for i in 0..ntan {
+                                    wh.scale_tangent(i, 1e-50);
+                                }
                             }
                         }
-                    }
-                })
-            });
+                    })
+                },
+            );
         }
     }
     g.finish();
