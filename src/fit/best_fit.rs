@@ -524,7 +524,12 @@ pub fn fit_model(
     if let (Some(h_auto), WhStepRule::Accuracy(acc)) = (automatic_step, settings.wh_step_rule) {
         // The accuracy is judged with the step rule of the original model
         // (automatic), at the stage-1 optimum.
-        let choice = model.accuracy_wh_step_from(&stage_single.full, h_auto, &acc)?;
+        // A failed choice (the model cannot be evaluated at any rung)
+        // leaves the first-stage result with the automatic step.
+        let choice = model
+            .accuracy_wh_step_from(&stage_single.full, h_auto, &acc)
+            .ok()
+            .flatten();
         if let Some(c) = choice {
             if c.step == h_auto {
                 wh_step_choice = Some(c);
