@@ -1,11 +1,20 @@
 //! Fitting throughput on the injection dataset (tests/injection_support)
-//! at the benchmark size, 400 epochs over 4000 d: ln L evaluations per
-//! second for the Keplerian and the dynamical (Wisdom–Holman, default step)
-//! model; ensemble-sampler steps (32 walkers) on the dynamical posterior
-//! with 1 and 2 rayon threads (parallel efficiency t₁ / (2 t₂) from the
-//! same run); and the wall time of the dynamical fit from the Keplerian
-//! solution, timed once in the setup and printed (one fit is too long for
-//! repeated sampling).
+//! at the benchmark size, 400 epochs over 4000 d:
+//!
+//! * ln L evaluations per second for the Keplerian and the dynamical
+//!   (Wisdom–Holman) model, the latter with the step following the
+//!   parameters (automatic rule per call), with the old fixed step (the
+//!   automatic step at the optimum) and with the fit's accuracy-driven step
+//!   (`FitResult::wh_step`); the ratio old/new is the gain of the new rule;
+//! * a batch of 64 dynamical parameter vectors near the optimum (Gaussian
+//!   scatter of 0.1 standard error per parameter, ChaCha20 seed 5)
+//!   evaluated with rayon in local pools of 1 and 2 threads, for the old
+//!   and the new step: t₁ / t₂ is the parallel speed-up (target ≥ 1.7);
+//! * ensemble-sampler steps (32 walkers) on the dynamical posterior with the
+//!   fit's step, with 1 and 2 rayon threads;
+//! * the wall time of the Keplerian and of the dynamical fit from the
+//!   Keplerian solution, timed once in the setup and printed (one fit is
+//!   too long for repeated sampling).
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
@@ -21,6 +30,8 @@ use apsidal::fit::sample::{
 use criterion::{BatchSize, Criterion, Throughput, criterion_group, criterion_main};
 use rand::SeedableRng;
 use rand_chacha::ChaCha20Rng;
+use rand_distr::{Distribution, StandardNormal};
+use rayon::prelude::*;
 
 fn model_of(kind: ModelKind, obs: &Observations) -> RvModel {
     let params = default_parameters(kind, &inj::guesses(0.003, 0.15, 10.0), obs, TrendKind::None)
@@ -54,6 +65,53 @@ impl LogTarget for Posterior<'_> {
     }
 }
 
+/// CPU time (user + system, s) of the whole process so far, all threads,
+/// from /proc/self/stat (fields 14 and 15, in clock ticks of 1/100 s:
+/// `getconf CLK_TCK` = 100 on the build machine); 0 when unreadable.
+fn process_cpu_s() -> f64 {
+    std::fs::read_to_string("/proc/self/stat")
+        .ok()
+        .and_then(|s| {
+            let rest = s.rsplit_once(')')?.1;
+            let f: Vec<&str> = rest.split_whitespace().collect();
+            let u: f64 = f.get(11)?.parse().ok()?;
+            let k: f64 = f.get(12)?.parse().ok()?;
+            Some((u + k) / 100.0)
+        })
+        .unwrap_or(0.0)
+}
+
+/// Run `f` `reps` times in `pool`; print wall time and process CPU time
+/// per item and the cores obtained (CPU / wall). CPU per item that does
+/// not grow from 1 to 2 threads means no contention inside the program
+/// (allocator, shared buffers, memory bandwidth): a wall-time speed-up
+/// below 2 is then the machine's other load.
+fn cpu_report(
+    label: &str,
+    pool: &rayon::ThreadPool,
+    items: usize,
+    reps: usize,
+    f: &(dyn Fn() + Sync),
+) {
+    let c0 = process_cpu_s();
+    let t0 = std::time::Instant::now();
+    pool.install(|| {
+        for _ in 0..reps {
+            f();
+        }
+    });
+    let wall = t0.elapsed().as_secs_f64();
+    let cpu = process_cpu_s() - c0;
+    let n = (items * reps) as f64;
+    println!(
+        "{label}: {} threads, wall {:.3} ms/item, CPU {:.3} ms/item, cores obtained {:.2}",
+        pool.current_num_threads(),
+        1e3 * wall / n,
+        1e3 * cpu / n,
+        cpu / wall
+    );
+}
+
 fn bench_fit(c: &mut Criterion) {
     let obs = inj::synthetic(20_260, 400, 4000.0);
     let km = model_of(ModelKind::Keplerian, &obs);
@@ -77,6 +135,14 @@ fn bench_fit(c: &mut Criterion) {
         kf.bic - df.bic
     );
 
+    let old_step = dm.automatic_wh_step(&df.values).expect("step");
+    let dm_old = dm.with_wh_step(old_step);
+    let dm_new = dm.with_wh_step(df.wh_step);
+    println!(
+        "steps: old (automatic at the optimum) {:?} d, new (fit) {:?} d, choice {:?}",
+        old_step, df.wh_step, df.wh_step_choice
+    );
+
     let mut g = c.benchmark_group("fit_lnl_400");
     g.throughput(Throughput::Elements(1));
     let kv = kf.values.clone();
@@ -87,10 +153,72 @@ fn bench_fit(c: &mut Criterion) {
     g.bench_function("dynamical_wh", |b| {
         b.iter(|| black_box(dm.ln_likelihood(black_box(&dv))))
     });
+    g.bench_function("dynamical_wh_old_step", |b| {
+        b.iter(|| black_box(dm_old.ln_likelihood(black_box(&dv))))
+    });
+    g.bench_function("dynamical_wh_new_step", |b| {
+        b.iter(|| black_box(dm_new.ln_likelihood(black_box(&dv))))
+    });
     g.finish();
 
-    // Sampler: 32 walkers around the dynamical optimum, 2 steps per sample.
-    let target = Posterior(&dm);
+    // A batch of 64 vectors near the optimum, 1 and 2 threads.
+    let mut rng = ChaCha20Rng::seed_from_u64(5);
+    let batch: Vec<Vec<f64>> = (0..64)
+        .map(|_| {
+            df.values
+                .iter()
+                .zip(&df.std_errors)
+                .map(|(&v, s)| {
+                    let z: f64 = StandardNormal.sample(&mut rng);
+                    v + s.map_or(0.0, |s| 0.1 * s * z)
+                })
+                .collect()
+        })
+        .collect();
+    for (label, model) in [("old step", &dm_old), ("new step", &dm_new)] {
+        for threads in [1usize, 2] {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .expect("pool");
+            cpu_report(label, &pool, batch.len(), 20, &|| {
+                black_box(
+                    batch
+                        .par_iter()
+                        .map(|v| model.ln_likelihood(v))
+                        .sum::<f64>(),
+                );
+            });
+        }
+    }
+    let mut g = c.benchmark_group("fit_lnl_batch_64");
+    g.sample_size(20);
+    g.throughput(Throughput::Elements(batch.len() as u64));
+    for (label, model) in [("old_step", &dm_old), ("new_step", &dm_new)] {
+        for threads in [1usize, 2] {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .expect("pool");
+            g.bench_function(format!("{label}_{threads}_thread"), |b| {
+                b.iter(|| {
+                    pool.install(|| {
+                        black_box(
+                            batch
+                                .par_iter()
+                                .map(|v| model.ln_likelihood(v))
+                                .sum::<f64>(),
+                        )
+                    })
+                })
+            });
+        }
+    }
+    g.finish();
+
+    // Sampler: 32 walkers around the dynamical optimum, 2 steps per sample,
+    // with the fit's step (as the posterior workflow runs it).
+    let target = Posterior(&dm_new);
     let centre = dm
         .params
         .unconstrained_from_full(&df.values)

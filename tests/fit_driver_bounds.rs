@@ -4,7 +4,8 @@
 //! known exactly (the truth, χ² = 0) when it lies inside the bounds, and is
 //! on the bound when the prior excludes the truth.
 
-use apsidal::fit::best_fit::{FitSettings, fit_model};
+use apsidal::fit::best_fit::{FitSettings, WhStepRule, fit_model};
+use apsidal::fit::models::STEP_LADDER;
 use apsidal::fit::models::{
     ModelKind, Observations, PlanetGuess, RvModel, TrendKind, default_parameters,
 };
@@ -123,9 +124,24 @@ fn automatic_wh_step_is_resolved_and_reported() {
     // With the step held, ln L is the same at the start as with the
     // automatic rule (same step there).
     assert_eq!(fixed.ln_likelihood(&start), m.ln_likelihood(&start));
-    let f = fit_model(&m, &[start], &FitSettings::default()).unwrap();
+    // The automatic rule (the default before the accuracy-driven step).
+    let automatic = FitSettings {
+        wh_step_rule: WhStepRule::Automatic,
+        ..FitSettings::default()
+    };
+    let f = fit_model(&m, std::slice::from_ref(&start), &automatic).unwrap();
     assert_eq!(f.wh_step, Some(h));
+    assert_eq!(f.wh_step_choice, None);
     assert!(f.converged, "{}", f.status);
+    // The default: a rung of the ladder on h, reported with its estimate.
+    let d = fit_model(&m, &[start], &FitSettings::default()).unwrap();
+    let c = d.wh_step_choice.unwrap();
+    println!("default rule: {c:?}");
+    assert!(d.converged, "{}", d.status);
+    assert_eq!(c.automatic_step, h);
+    assert!(STEP_LADDER.contains(&c.factor));
+    assert_eq!(d.wh_step, Some(c.factor * h));
+    assert!(c.meets_tolerance && c.max_rv_error <= c.tolerance);
     assert!(m.automatic_wh_step(&f.values).unwrap().is_some());
     assert_eq!(
         model(ModelKind::Keplerian, 100.0, 30.0)

@@ -442,6 +442,141 @@ impl RvModel {
         out
     }
 
+    /// For a dynamical model whose Wisdom–Holman step is automatic, the
+    /// longest step from the ladder [`STEP_LADDER`] (multiples of the
+    /// automatic step h₀, [`Self::automatic_wh_step`]) whose RV error at the
+    /// observed epochs, at the parameters `full`, meets `accuracy`; `None`
+    /// when the model is Keplerian, integrates with Gauss–Radau or already
+    /// has a given step.
+    ///
+    /// **Error estimate.** Each rung h is compared with a reference run of
+    /// the same integrator (same corrector) at h_f = h₀/8, a quarter of the
+    /// shortest rung. For a method whose error is e(h) = C h^p with p ≥ 2
+    /// (the plain map's O(ε h²) error and its O(ε² h²) phase drift; higher p
+    /// with correctors, Wisdom, Holman & Touma 1996), |v_h − v_f| ≥
+    /// e(h) (1 − (h_f/h)^p) for errors of one sign, so the estimate
+    /// |v_h − v_f| / (1 − (h_f/h)²) bounds e(h) for any p ≥ 2. This is a
+    /// step-doubling (Richardson-type) estimate; the test
+    /// tests/fit_wh_step.rs checks it against Gauss–Radau at round-off.
+    ///
+    /// **Rule.** Climbing the ladder from the shortest rung, a rung passes
+    /// when (i) its largest estimated error over the epochs is at most
+    /// [`StepAccuracy::error_fraction`] × the smallest quoted error and
+    /// (ii) the whitened error norm √Σ(δ_i/σ_i)² is at most
+    /// [`StepAccuracy::whitened_norm`]. (ii) bounds what the error can do to
+    /// a least-squares fit: in the linear regime a residual perturbation w
+    /// (whitened) shifts parameter j by (JᵀJ)⁻¹Jᵀw, whose size is at most
+    /// σ_j ‖w‖ (Cauchy–Schwarz on the projection), so every fitted
+    /// parameter moves by at most `whitened_norm` standard errors. The
+    /// climb stops at the first rung that fails (WH errors need not be
+    /// monotone near step resonances, Rauch & Holman 1999, from memory), and
+    /// the last passing rung is taken. If even the shortest rung fails it
+    /// is taken and [`WhStepChoice::meets_tolerance`] is false.
+    ///
+    /// **Cap.** Rungs above the pericentre-passage time of the innermost
+    /// (most demanding) orbit, T_q = (P/2π)(1 − e)^{3/2}/(1 + e)^{1/2}
+    /// (the time scale the automatic rule resolves with P/20 per circular
+    /// orbit, i.e. h₀ = (2π/20) T_q), are never tried: the ladder stops at
+    /// 3 h₀ < (10/π) h₀ = T_q. The Wisdom–Holman map loses accuracy
+    /// abruptly and can become unstable once the step is not small against
+    /// the pericentre passage (Wisdom 2015, AJ 150, 127; Rauch & Holman
+    /// 1999, AJ 117, 1087 on step-size resonances; both from memory), and
+    /// an RV error measured at one parameter vector would not protect a
+    /// fit or a sampler that moves to higher eccentricity. The top rung,
+    /// 3 h₀ = 0.94 T_q, is still shorter than one pericentre passage.
+    pub fn accuracy_wh_step(
+        &self,
+        full: &[f64],
+        accuracy: &StepAccuracy,
+    ) -> Result<Option<WhStepChoice>, ModelError> {
+        let Some(h0) = self.automatic_wh_step(full)? else {
+            return Ok(None);
+        };
+        self.accuracy_wh_step_from(full, h0, accuracy)
+    }
+
+    /// [`Self::accuracy_wh_step`] with the ladder built on a given base
+    /// step `h0` (days) instead of the automatic step at `full` (a fit
+    /// passes the automatic step it held, so that rung 1 is that step).
+    /// `None` for the Keplerian model and for Gauss–Radau; a given step of
+    /// the model is overridden by the rungs.
+    pub fn accuracy_wh_step_from(
+        &self,
+        full: &[f64],
+        h0: f64,
+        accuracy: &StepAccuracy,
+    ) -> Result<Option<WhStepChoice>, ModelError> {
+        if self.kind == ModelKind::Keplerian
+            || !matches!(
+                self.dynamics.integrator,
+                IntegratorChoice::WisdomHolman { .. }
+            )
+        {
+            return Ok(None);
+        }
+        if !(h0 > 0.0 && h0.is_finite()) {
+            return Err(ModelError::Evaluation(format!(
+                "step accuracy: base step {h0} d must be positive"
+            )));
+        }
+        let bad = |s: &str| ModelError::Evaluation(s.to_string());
+        if !(accuracy.error_fraction > 0.0 && accuracy.whitened_norm > 0.0) {
+            return Err(bad(
+                "step accuracy: the error fraction and the whitened norm must be positive",
+            ));
+        }
+        let min_err = self.obs.err.iter().copied().fold(f64::INFINITY, f64::min);
+        if !(min_err > 0.0 && min_err.is_finite()) {
+            return Err(bad("step accuracy: the data need positive, finite errors"));
+        }
+        let tolerance = accuracy.error_fraction * min_err;
+        let n = self.obs.len();
+        let h_ref = STEP_LADDER[0] * h0 / 4.0;
+        let mut reference = vec![0.0; n];
+        self.with_wh_step(Some(h_ref))
+            .model_rv(full, &mut reference)?;
+        let mut trial = vec![0.0; n];
+        let mut chosen: Option<WhStepChoice> = None;
+        for &factor in STEP_LADDER {
+            let h = factor * h0;
+            if self
+                .with_wh_step(Some(h))
+                .model_rv(full, &mut trial)
+                .is_err()
+            {
+                break;
+            }
+            let rho = h_ref / h;
+            let inflate = 1.0 / (1.0 - rho * rho);
+            let (mut max_err, mut norm2) = (0.0f64, 0.0);
+            for ((a, b), s) in trial.iter().zip(&reference).zip(&self.obs.err) {
+                let d = (a - b).abs() * inflate;
+                max_err = max_err.max(d);
+                norm2 += (d / s) * (d / s);
+            }
+            let whitened_error = norm2.sqrt();
+            let meets = max_err <= tolerance && whitened_error <= accuracy.whitened_norm;
+            if !meets && chosen.is_some() {
+                break;
+            }
+            chosen = Some(WhStepChoice {
+                step: h,
+                automatic_step: h0,
+                factor,
+                max_rv_error: max_err,
+                whitened_error,
+                tolerance,
+                meets_tolerance: meets,
+            });
+            if !meets {
+                break;
+            }
+        }
+        chosen
+            .map(Some)
+            .ok_or_else(|| bad("step accuracy: the model could not be evaluated at any rung"))
+    }
+
     /// Residuals data − model (m/s) into `out`.
     pub fn residuals(&self, full: &[f64], out: &mut [f64]) -> Result<(), ModelError> {
         self.model_rv(full, out)?;
@@ -491,6 +626,53 @@ impl RvModel {
         }
         ll + lp + ln_jac
     }
+}
+
+/// Multiples of the automatic Wisdom–Holman step tried by
+/// [`RvModel::accuracy_wh_step`], shortest first. The top, 3, stays below
+/// the pericentre-passage cap 10/π ≈ 3.18 (see that function).
+pub const STEP_LADDER: &[f64] = &[0.5, 1.0, 1.25, 1.5, 1.75, 2.0, 2.5, 3.0];
+
+/// The accuracy a fit asks of its fixed Wisdom–Holman step
+/// ([`RvModel::accuracy_wh_step`]).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct StepAccuracy {
+    /// Largest RV error at any epoch, as a fraction of the smallest quoted
+    /// measurement error (default 0.01: 1 %, i.e. 2 cm/s for 2 m/s data).
+    pub error_fraction: f64,
+    /// Largest whitened error norm √Σ(δ_i/σ_i)² (default 0.1: no fitted
+    /// parameter moves by more than 0.1 σ in the linear regime).
+    pub whitened_norm: f64,
+}
+
+impl Default for StepAccuracy {
+    fn default() -> Self {
+        StepAccuracy {
+            error_fraction: 0.01,
+            whitened_norm: 0.1,
+        }
+    }
+}
+
+/// The Wisdom–Holman step chosen by [`RvModel::accuracy_wh_step`] and its
+/// estimated RV error at the data epochs.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct WhStepChoice {
+    /// The chosen step (d).
+    pub step: f64,
+    /// The automatic step h₀ of the integrator's rule (d).
+    pub automatic_step: f64,
+    /// step / automatic_step (a rung of [`STEP_LADDER`]).
+    pub factor: f64,
+    /// Estimated largest RV error over the epochs (m/s).
+    pub max_rv_error: f64,
+    /// Estimated whitened error norm √Σ(δ_i/σ_i)².
+    pub whitened_error: f64,
+    /// The per-epoch tolerance (m/s): error fraction × smallest error.
+    pub tolerance: f64,
+    /// Whether the step meets both criteria (false only when even the
+    /// shortest rung fails; that rung is then returned).
+    pub meets_tolerance: bool,
 }
 
 /// A starting guess for one planet, used to lay out a parameter set with
