@@ -80,15 +80,11 @@ pub fn map_picture(map: &StabilityMap, system: &str) -> Result<String, PictureEr
         s.y.element.axis_label(s.y.planet),
     );
     let title = format!(
-        "{system}: {} over {} orbits",
+        "{system}: {}, {} outer orbits per cell",
         if megno { "MEGNO map" } else { "stability map" },
         s.run.orbits
     );
-    let label = if megno {
-        "disrupted (no ⟨Y⟩)"
-    } else {
-        "disrupted"
-    };
+    let label = "disrupted";
     Ok(heat_map_marked(
         &HeatMapPlot {
             title: &title,
