@@ -79,9 +79,24 @@ fn demo_flags_the_resonant_and_the_kinematic_system() {
         "angles-1.svg",
         "posterior-histograms.svg",
         "posterior-pairs.svg",
+        "megno-map.csv",
+        "megno-map.svg",
     ] {
         assert!(report.files.iter().any(|f| f == name), "{name} not written");
     }
+    // The MEGNO map about the best fit: 15 × 10 cells, every one counted
+    // once, and one line in the summary.
+    let m = report.megno_map.as_ref().expect("a MEGNO map");
+    assert_eq!(m.cells, 150);
+    assert_eq!(m.regular + m.irregular + m.disrupted + m.missing, 150);
+    assert!(m.regular > 0, "{m:?}");
+    assert!(stdout.contains("MEGNO map (15×10 cells"), "{stdout}");
+    let csv = std::fs::read_to_string(out.join("megno-map.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 151);
+    assert!(csv.starts_with("ix,iy,p2.period,p2.eccentricity,megno,verdict,survival_orbits\n"));
+    let svg = std::fs::read_to_string(out.join("megno-map.svg")).unwrap();
+    assert!(svg.contains("Tellan: MEGNO map, 300 outer orbits per cell"));
+    assert!(svg.contains("⟨Y⟩ (MEGNO), clipped to [1.5, 8]"));
     check_files(&out, &report);
 
     // Determinism (issue: results fixed by the seed whatever the thread

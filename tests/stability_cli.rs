@@ -129,6 +129,10 @@ fn survey_shards_merge_to_the_whole_and_map_runs() {
     let text = std::fs::read_to_string(mp.join("map.csv")).unwrap();
     assert_eq!(text.lines().count(), 7);
     assert!(text.starts_with("ix,iy,p2.period,p2.eccentricity,survival,verdict,survival_orbits"));
+    // The heat map beside it, for every indicator.
+    let svg = std::fs::read_to_string(mp.join("map.svg")).unwrap();
+    roxmltree::Document::parse(&svg).unwrap();
+    assert!(svg.contains("survival [outer orbits], clipped to [0, 100]"));
     let o = apsidal(&[
         "map",
         run,
@@ -136,6 +140,95 @@ fn survey_shards_merge_to_the_whole_and_map_runs() {
         "9.period:1:2:2",
         "--y",
         "2.eccentricity:0:0.3:2",
+        "--quiet",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+/// `map --indicator megno` on the demo system Tellan (invented K dwarf
+/// with two giants near 2:1): a 4 × 3 grid of the outer planet's period
+/// and eccentricity, 100 outer orbits per cell. Without --quiet, so that
+/// the progress bar is seen to stay off a stderr that is not a terminal.
+#[test]
+fn megno_map_of_the_demo_system() {
+    let d = scratch("megno-map");
+    let run = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/tellan/run.ron");
+    let o = apsidal(&[
+        "map",
+        run.to_str().unwrap(),
+        "--indicator",
+        "megno",
+        "--x",
+        "2.period:110:140:4",
+        "--y",
+        "2.eccentricity:0:0.4:3",
+        "--orbits",
+        "100",
+        "--out",
+        d.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(
+        o.stderr.is_empty(),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(stdout.contains("of 12 cells stable"), "{stdout}");
+    let csv = std::fs::read_to_string(d.join("map.csv")).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "ix,iy,p2.period,p2.eccentricity,megno,verdict,survival_orbits"
+    );
+    let rows: Vec<Vec<String>> = lines
+        .map(|l| l.split(',').map(str::to_string).collect())
+        .collect();
+    assert_eq!(rows.len(), 12);
+    for r in &rows {
+        // A value exactly when the cell survived; else the event names it.
+        if r[5] == "stable" {
+            assert!(r[4].parse::<f64>().unwrap() > 0.0, "{r:?}");
+        } else {
+            assert_eq!(r[4], "", "{r:?}");
+            assert!(
+                [
+                    "close-encounter",
+                    "star-collision",
+                    "ejection",
+                    "integration-failure"
+                ]
+                .contains(&r[5].as_str()),
+                "{r:?}"
+            );
+        }
+    }
+    eprintln!("{csv}");
+    let svg = std::fs::read_to_string(d.join("map.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let text: String = doc
+        .descendants()
+        .filter_map(|n| n.text())
+        .collect::<Vec<_>>()
+        .join("|");
+    for want in [
+        "Tellan: MEGNO map, 100 outer orbits per cell",
+        "period P_2 [d]",
+        "eccentricity e_2 [1]",
+        "⟨Y⟩ (MEGNO), clipped to [1.5, 8]",
+    ] {
+        assert!(text.contains(want), "{want}: {text}");
+    }
+    // An unknown indicator is bad input.
+    let o = apsidal(&[
+        "map",
+        run.to_str().unwrap(),
+        "--indicator",
+        "lyapunov",
+        "--x",
+        "2.period:110:140:4",
+        "--y",
+        "2.eccentricity:0:0.4:3",
         "--quiet",
     ]);
     assert_eq!(o.status.code(), Some(2));

@@ -76,9 +76,9 @@ pub enum Command {
     )]
     Stability(StabilityArgs),
     /// A stability map over a grid of two elements of the fitted solution,
-    /// written as map.csv.
+    /// written as map.csv and drawn as the heat map map.svg.
     #[command(
-        after_help = "Example:\n  apsidal map run.ron --out map --x 2.period:80:90:21 --y 2.eccentricity:0:0.4:21 --indicator survival --orbits 2000\n\nAxes are PLANET.ELEMENT:MIN:MAX:N, planets numbered from 1 (innermost); elements: period, semi_major_axis, eccentricity, mass_jupiter, inclination, omega_star. Indicators: survival, max-e, drift."
+        after_help = "Example:\n  apsidal map run.ron --out map --x 2.period:80:90:21 --y 2.eccentricity:0:0.4:21 --indicator survival --orbits 2000\n  apsidal map run.ron --out map --x 2.period:80:90:15 --y 2.eccentricity:0:0.3:10 --indicator megno --orbits 500\n\nAxes are PLANET.ELEMENT:MIN:MAX:N, planets numbered from 1 (innermost); elements: period, semi_major_axis, eccentricity, mass_jupiter, inclination, omega_star. Indicators: survival, max-e, drift, megno (⟨Y⟩, colour range 1.5 to 8; disrupted cells carry a dot)."
     )]
     Map(MapArgs),
     /// Merge the tables of a sharded survey into the table the unsharded
@@ -161,7 +161,10 @@ pub struct MapArgs {
     /// Vertical axis, PLANET.ELEMENT:MIN:MAX:N.
     #[arg(long)]
     pub y: String,
-    /// Indicator: survival, max-e or drift.
+    /// Indicator: survival (outer orbits survived), max-e (largest
+    /// eccentricity), drift (largest |Δa|/a) or megno (MEGNO ⟨Y⟩; turns
+    /// --megno on; disrupted cells have an empty value and the event as
+    /// their verdict, and are drawn with a dot at the chaotic end).
     #[arg(long, default_value = "survival")]
     pub indicator: String,
     /// Run settings.

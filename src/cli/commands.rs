@@ -360,17 +360,27 @@ fn fitted(
 }
 
 fn stability(cli: &Cli, a: &StabilityArgs) -> Result<(), CliError> {
-    use apsidal::stability::run::{run_solution, settings_for_model};
+    use apsidal::stability::run::settings_for_model;
     use apsidal::stability::survey::{SurveySettings, read_samples_csv, run_survey};
     let (run, data) = load_run(&a.run)?;
     let name = a.run.display().to_string();
     let dir = out_dir(cli, Some(&run));
     ensure_dir(&dir)?;
     let Some(samples) = &a.samples else {
+        use apsidal::stability::run::{run_stability_observed, solution_system};
         let (model, values) = fitted(&run, &data, &name)?;
         let settings = settings_for_model(&model, run_settings(&a.length));
-        let report = run_solution(&model, &values, &settings)
-            .map_err(|e| CliError::BadInput(e.to_string()))?;
+        let system =
+            solution_system(&model, &values).map_err(|e| CliError::BadInput(e.to_string()))?;
+        // Progress in thousandths of the run (indicatif draws nothing when
+        // stderr is not a terminal, and `bar` hides it in quiet mode).
+        let pb = bar(1000, "stability", cli.global.quiet);
+        let pb2 = pb.clone();
+        let report = run_stability_observed(&system, &settings, &move |f| {
+            pb2.set_position((1000.0 * f).round() as u64)
+        })
+        .map_err(|e| CliError::BadInput(e.to_string()))?;
+        pb.finish_and_clear();
         write_report(&dir, "stability", &report)?;
         say(
             cli,
@@ -502,7 +512,7 @@ fn map(cli: &Cli, a: &MapArgs) -> Result<(), CliError> {
     let name = a.run.display().to_string();
     let indicator = Indicator::from_name(&a.indicator).ok_or_else(|| {
         CliError::BadInput(format!(
-            "indicator `{}`: expected survival, max-e or drift",
+            "indicator `{}`: expected survival, max-e, drift or megno",
             a.indicator
         ))
     })?;
@@ -534,8 +544,35 @@ fn map(cli: &Cli, a: &MapArgs) -> Result<(), CliError> {
         .map_err(|e| CliError::BadInput(e.to_string()))?;
     pb.finish_and_clear();
     write_text(&dir.join("map.csv"), &map_csv(&m))?;
+    let system = run.star.name.clone().unwrap_or_else(|| name.clone());
+    match pictures::map_picture(&m, &system) {
+        Ok(svg) => write_text(&dir.join("map.svg"), &svg)?,
+        // A map with a one-value axis is a table, not a picture.
+        Err(e) => say(cli, &format!("map.svg not written: {e}")),
+    }
     let stable = m.cells.iter().filter(|c| c.verdict == "stable").count();
-    say(cli, &format!("{stable} of {} cells stable", m.cells.len()));
+    let disrupted = m.cells.iter().filter(|c| c.disrupted()).count();
+    say(
+        cli,
+        &format!(
+            "{stable} of {} cells stable, {disrupted} disrupted",
+            m.cells.len()
+        ),
+    );
+    if indicator == Indicator::Megno {
+        let regular = m
+            .cells
+            .iter()
+            .filter(|c| {
+                c.value
+                    .is_some_and(|y| y <= 2.0 + apsidal::stability::megno::REGULAR_MARGIN)
+            })
+            .count();
+        say(
+            cli,
+            &format!("{regular} cells with ⟨Y⟩ ≤ 2.2 (regular, Cincotta & Simó 2000)"),
+        );
+    }
     say(cli, &format!("results in {}", dir.display()));
     Ok(())
 }

@@ -7,11 +7,27 @@
 //! solution (all else held: masses, other elements, reference epoch) and
 //! runs the system. The indicator ([`Indicator`]) is read from the run:
 //! survival time in orbits of the outermost planet, largest eccentricity,
-//! or largest semi-major-axis drift. MEGNO ⟨Y⟩ (Cincotta & Simó 2000) will
-//! be one more variant once the variational equations are available. Grid
-//! values are evenly spaced, both ends included (one value: the lower end).
-//! Cells are independent and results are collected in grid order, so the
-//! map is the same whatever the thread count.
+//! largest semi-major-axis drift, or MEGNO ⟨Y⟩ (Cincotta & Simó 2000, A&AS
+//! 147, 205; computed by [`crate::stability::megno::megno_run`] over the
+//! cell's run length with the run's step, see [`RunSettings::megno`]).
+//! Grid values are evenly spaced, both ends included (one value: the lower
+//! end). Cells are independent and results are collected in grid order, so
+//! the map is the same whatever the thread count.
+//!
+//! # Disrupted cells
+//!
+//! A cell whose run is stopped by an event before its full length (close
+//! encounter, collision with the star, ejection, numerical failure after an
+//! encounter) keeps the event as its verdict (`close-encounter`,
+//! `star-collision`, `ejection`, `integration-failure`;
+//! [`MapCell::disrupted`]). MEGNO is not computed for such a run, so with
+//! [`Indicator::Megno`] its value is empty (`None`, an empty CSV field)
+//! and only the verdict tells what happened; the picture
+//! ([`crate::workflow::pictures::map_picture`]) draws it at the chaotic end
+//! of the scale *and* marks it with a dot, so it is never mistaken for a
+//! measured ⟨Y⟩. A surviving cell whose MEGNO integration fails
+//! numerically has the verdict `megno-failure`, no value and the reason in
+//! [`MapCell::error`]. An impossible system is `invalid`.
 
 use std::fmt::Write as _;
 
@@ -40,6 +56,16 @@ pub enum Element {
     OmegaStarDeg,
 }
 
+/// Every element, in the order of [`Element::name`]'s list.
+const ELEMENTS: [Element; 6] = [
+    Element::Period,
+    Element::SemiMajorAxis,
+    Element::Eccentricity,
+    Element::MassJupiter,
+    Element::InclinationDeg,
+    Element::OmegaStarDeg,
+];
+
 impl Element {
     /// Name used on the command line and in CSV headers.
     pub fn name(self) -> &'static str {
@@ -55,16 +81,23 @@ impl Element {
 
     /// The element of [`Element::name`].
     pub fn from_name(s: &str) -> Option<Self> {
-        [
-            Element::Period,
-            Element::SemiMajorAxis,
-            Element::Eccentricity,
-            Element::MassJupiter,
-            Element::InclinationDeg,
-            Element::OmegaStarDeg,
-        ]
-        .into_iter()
-        .find(|e| e.name() == s)
+        ELEMENTS.into_iter().find(|e| e.name() == s)
+    }
+
+    /// Name, symbol and unit for an axis label of planet `planet`
+    /// (0-based), e.g. "period P_2 [d]", "eccentricity e_2 [1]" (planets
+    /// numbered from 1, innermost first; osculating Jacobi elements at the
+    /// reference epoch).
+    pub fn axis_label(self, planet: usize) -> String {
+        let k = planet + 1;
+        match self {
+            Element::Period => format!("period P_{k} [d]"),
+            Element::SemiMajorAxis => format!("semi-major axis a_{k} [au]"),
+            Element::Eccentricity => format!("eccentricity e_{k} [1]"),
+            Element::MassJupiter => format!("mass m_{k} [M_Jup]"),
+            Element::InclinationDeg => format!("inclination i_{k} [deg]"),
+            Element::OmegaStarDeg => format!("star's periastron argument ω⋆_{k} [deg]"),
+        }
     }
 
     fn set(self, p: &mut JacobiPlanet, v: f64) {
@@ -115,37 +148,61 @@ pub enum Indicator {
     MaxEccentricity,
     /// Largest |Δa|/a of any planet over the run.
     AxisDrift,
+    /// MEGNO ⟨Y⟩ at the end of the run (Cincotta & Simó 2000): → 2 for
+    /// quasi-periodic orbits, growing for chaotic ones; empty for a
+    /// disrupted run (module docs). Choosing it turns
+    /// [`RunSettings::megno`] on.
+    Megno,
 }
 
 impl Indicator {
-    /// Value of the indicator for a run.
-    pub fn of(self, r: &StabilityReport) -> f64 {
+    /// Every indicator, in the order of the command line's help.
+    pub const ALL: [Indicator; 4] = [
+        Indicator::SurvivalOrbits,
+        Indicator::MaxEccentricity,
+        Indicator::AxisDrift,
+        Indicator::Megno,
+    ];
+
+    /// Value of the indicator for a run: survival in outer orbits, the
+    /// largest eccentricity or |Δa|/a of any planet, or ⟨Y⟩. MEGNO is
+    /// `None` when it was not computed (not asked for, or the run was
+    /// disrupted); the others always have a value.
+    pub fn value(self, r: &StabilityReport) -> Option<f64> {
         let max = |v: &[f64]| v.iter().copied().fold(0.0, f64::max);
         match self {
-            Indicator::SurvivalOrbits => r.survival_orbits,
-            Indicator::MaxEccentricity => max(&r.max_eccentricity),
-            Indicator::AxisDrift => max(&r.max_axis_drift),
+            Indicator::SurvivalOrbits => Some(r.survival_orbits),
+            Indicator::MaxEccentricity => Some(max(&r.max_eccentricity)),
+            Indicator::AxisDrift => Some(max(&r.max_axis_drift)),
+            Indicator::Megno => r.megno.filter(|y| y.is_finite()),
         }
     }
 
-    /// Name used on the command line: `survival`, `max-e`, `drift`.
+    /// Name used on the command line and as the CSV column: `survival`,
+    /// `max-e`, `drift`, `megno`.
     pub fn name(self) -> &'static str {
         match self {
             Indicator::SurvivalOrbits => "survival",
             Indicator::MaxEccentricity => "max-e",
             Indicator::AxisDrift => "drift",
+            Indicator::Megno => "megno",
+        }
+    }
+
+    /// Label with unit for pictures: "survival [outer orbits]", "largest
+    /// e [1]", "largest |Δa|/a [1]", "⟨Y⟩ (MEGNO)" (dimensionless).
+    pub fn label(self) -> &'static str {
+        match self {
+            Indicator::SurvivalOrbits => "survival [outer orbits]",
+            Indicator::MaxEccentricity => "largest e [1]",
+            Indicator::AxisDrift => "largest |Δa|/a [1]",
+            Indicator::Megno => "⟨Y⟩ (MEGNO)",
         }
     }
 
     /// The indicator of [`Indicator::name`].
     pub fn from_name(s: &str) -> Option<Self> {
-        [
-            Indicator::SurvivalOrbits,
-            Indicator::MaxEccentricity,
-            Indicator::AxisDrift,
-        ]
-        .into_iter()
-        .find(|i| i.name() == s)
+        Self::ALL.into_iter().find(|i| i.name() == s)
     }
 }
 
@@ -186,14 +243,32 @@ pub struct MapCell {
     pub x: f64,
     /// y value.
     pub y: f64,
-    /// Indicator value (`None` when the cell's system is impossible).
+    /// Indicator value (`None` when the cell's system is impossible, and
+    /// for MEGNO when the run was disrupted or its MEGNO failed).
     pub value: Option<f64>,
-    /// Verdict label, or `invalid` for an impossible system.
+    /// Verdict label ([`crate::stability::run::Verdict::label`]), or
+    /// [`INVALID`] for an impossible system, or [`MEGNO_FAILURE`].
     pub verdict: String,
     /// Survival in orbits of the outermost planet.
     pub survival_orbits: Option<f64>,
-    /// Why the cell could not be run.
+    /// MEGNO ⟨Y⟩ when it was computed ([`RunSettings::megno`] on and the
+    /// run not disrupted).
+    pub megno: Option<f64>,
+    /// Why the cell could not be run (or its MEGNO not computed).
     pub error: Option<String>,
+}
+
+/// Verdict of a surviving cell whose MEGNO integration failed.
+pub const MEGNO_FAILURE: &str = "megno-failure";
+/// Verdict of a cell whose system is impossible.
+pub const INVALID: &str = "invalid";
+
+impl MapCell {
+    /// True when the cell's run was stopped by an event before its full
+    /// length (its verdict is the event's label; module docs).
+    pub fn disrupted(&self) -> bool {
+        !matches!(self.verdict.as_str(), "stable" | INVALID | MEGNO_FAILURE)
+    }
 }
 
 /// A whole map, cells in row-major order (y outer, x inner).
@@ -227,6 +302,11 @@ pub fn stability_map(
             )));
         }
     }
+    let mut settings = *settings;
+    if settings.indicator == Indicator::Megno {
+        settings.run.megno = true;
+    }
+    let settings = &settings;
     let (nx, ny) = (settings.x.n, settings.y.n);
     let done = std::sync::atomic::AtomicUsize::new(0);
     let cells: Vec<Result<MapCell, StabilityError>> = (0..nx * ny)
@@ -237,43 +317,38 @@ pub fn stability_map(
             let mut planets = base.planets.clone();
             settings.x.element.set(&mut planets[settings.x.planet], x);
             settings.y.element.set(&mut planets[settings.y.planet], y);
+            let empty = |verdict: &str, why: String| MapCell {
+                ix,
+                iy,
+                x,
+                y,
+                value: None,
+                verdict: verdict.into(),
+                survival_orbits: None,
+                megno: None,
+                error: Some(why),
+            };
             let cell = match System::from_jacobi_elements(
                 base.star_mass,
                 base.star_radius,
                 &planets,
                 base.t_ref,
             ) {
-                Err(e) => MapCell {
-                    ix,
-                    iy,
-                    x,
-                    y,
-                    value: None,
-                    verdict: "invalid".into(),
-                    survival_orbits: None,
-                    error: Some(e.to_string()),
-                },
+                Err(e) => empty(INVALID, e.to_string()),
                 Ok(sys) => match run_stability(&sys, &settings.run) {
                     Ok(r) => MapCell {
                         ix,
                         iy,
                         x,
                         y,
-                        value: Some(settings.indicator.of(&r)),
+                        value: settings.indicator.value(&r),
                         verdict: r.verdict.label().into(),
                         survival_orbits: Some(r.survival_orbits),
+                        megno: r.megno.filter(|y| y.is_finite()),
                         error: None,
                     },
-                    Err(StabilityError::BadSystem(s)) => MapCell {
-                        ix,
-                        iy,
-                        x,
-                        y,
-                        value: None,
-                        verdict: "invalid".into(),
-                        survival_orbits: None,
-                        error: Some(s),
-                    },
+                    Err(StabilityError::BadSystem(s)) => empty(INVALID, s),
+                    Err(StabilityError::Megno(s)) => empty(MEGNO_FAILURE, s),
                     Err(e) => return Err(e),
                 },
             };
@@ -289,20 +364,26 @@ pub fn stability_map(
 
 /// The map as CSV: `ix,iy,<x name>,<y name>,<indicator>,verdict,
 /// survival_orbits` with names like `p1.period` (planet numbered from 1,
-/// innermost first); empty fields for invalid cells.
+/// innermost first), and a last column `megno` (⟨Y⟩) whenever MEGNO was
+/// computed with another indicator (with [`Indicator::Megno`] the
+/// indicator column is `megno` itself). Empty fields where there is no
+/// value: invalid cells, and ⟨Y⟩ of disrupted cells, whose verdict column
+/// names the event (module docs).
 pub fn map_csv(map: &StabilityMap) -> String {
     let s = &map.settings;
+    let extra = s.run.megno && s.indicator != Indicator::Megno;
     let mut out = format!(
-        "ix,iy,p{}.{},p{}.{},{},verdict,survival_orbits\n",
+        "ix,iy,p{}.{},p{}.{},{},verdict,survival_orbits{}\n",
         s.x.planet + 1,
         s.x.element.name(),
         s.y.planet + 1,
         s.y.element.name(),
-        s.indicator.name()
+        s.indicator.name(),
+        if extra { ",megno" } else { "" }
     );
     let f = |v: Option<f64>| v.map_or(String::new(), |x| format!("{x:?}"));
     for c in &map.cells {
-        let _ = writeln!(
+        let _ = write!(
             out,
             "{},{},{:?},{:?},{},{},{}",
             c.ix,
@@ -313,6 +394,10 @@ pub fn map_csv(map: &StabilityMap) -> String {
             c.verdict,
             f(c.survival_orbits)
         );
+        if extra {
+            let _ = write!(out, ",{}", f(c.megno));
+        }
+        out.push('\n');
     }
     out
 }

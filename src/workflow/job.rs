@@ -1,8 +1,8 @@
 //! The whole job on one system, as one library call: periodogram →
-//! Keplerian fit → dynamical fit → a short posterior run → pictures, with
-//! every result written atomically into an output folder, and a summary
-//! for people. (The comparison and stability steps join it as they are
-//! wired in; each step's report is also available on its own.)
+//! Keplerian fit → dynamical fit → a short posterior run → pictures →
+//! comparison, diagnosis and stability → a small MEGNO map about the best
+//! fit, with every result written atomically into an output folder, and a
+//! summary for people. Each step's report is also available on its own.
 
 use std::path::{Path, PathBuf};
 
@@ -34,6 +34,62 @@ pub struct JobSettings {
     pub posterior: PosteriorSettings,
     /// Comparison, diagnosis and stability.
     pub assess: super::assess::AssessSettings,
+    /// The MEGNO map about the best fit (`None`: no map).
+    pub megno_map: Option<MegnoMapSettings>,
+}
+
+/// The job's MEGNO map: the outermost planet's period × eccentricity about
+/// the best fit (the last dynamical model, else the last model), every
+/// other element held, each cell a [`crate::stability::run::run_stability`]
+/// run with MEGNO ([`crate::stability::map`]).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct MegnoMapSettings {
+    /// Number of periods, from (1 − `period_span`) to (1 + `period_span`)
+    /// times the best-fit period.
+    pub periods: usize,
+    /// Half-width of the period range as a fraction of the best-fit period.
+    pub period_span: f64,
+    /// Number of eccentricities, from 0 to `max_eccentricity`.
+    pub eccentricities: usize,
+    /// Largest eccentricity of the grid.
+    pub max_eccentricity: f64,
+    /// Length of each cell's run in orbits of the outermost planet.
+    pub orbits: f64,
+}
+
+impl Default for MegnoMapSettings {
+    /// 15 periods within ±8 % of the best fit × 10 eccentricities from 0 to
+    /// 0.45, 300 outer orbits per cell (a demo-sized map: regular cells
+    /// reach ⟨Y⟩ ≈ 2 within about 0.1 in that time, chaotic ones of
+    /// Lyapunov times below ~50 orbits clearly exceed it).
+    fn default() -> Self {
+        MegnoMapSettings {
+            periods: 15,
+            period_span: 0.08,
+            eccentricities: 10,
+            max_eccentricity: 0.45,
+            orbits: 300.0,
+        }
+    }
+}
+
+/// What the job's MEGNO map found (the cells are in `megno-map.csv`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MegnoMapSummary {
+    /// Settings it was made with.
+    pub settings: MegnoMapSettings,
+    /// Period range of the outermost planet (days).
+    pub period_range: (f64, f64),
+    /// Cells in the map.
+    pub cells: usize,
+    /// Cells with ⟨Y⟩ ≤ 2 + [`crate::stability::megno::REGULAR_MARGIN`].
+    pub regular: usize,
+    /// Surviving cells with a larger ⟨Y⟩ (chaotic or undecided).
+    pub irregular: usize,
+    /// Cells disrupted by an event before the end of their run.
+    pub disrupted: usize,
+    /// Cells without a value (impossible systems, failed MEGNO).
+    pub missing: usize,
 }
 
 impl JobSettings {
@@ -62,6 +118,7 @@ impl JobSettings {
                 seed,
                 ..Default::default()
             },
+            megno_map: Some(MegnoMapSettings::default()),
         }
     }
 }
@@ -78,6 +135,9 @@ pub enum JobError {
     /// The posterior run failed.
     #[error("posterior: {0}")]
     Posterior(#[from] crate::fit::sample::SampleError),
+    /// The MEGNO map could not be made.
+    #[error("MEGNO map: {0}")]
+    Map(#[from] crate::stability::run::StabilityError),
     /// A file could not be written.
     #[error("{path}: {why}")]
     Write {
@@ -102,6 +162,8 @@ pub struct JobReport {
     /// Comparison, resonance diagnosis and stability (when the run file
     /// fits both a Keplerian and a dynamical model).
     pub assessment: Option<super::assess::Assessment>,
+    /// The MEGNO map about the best fit, when one was asked for.
+    pub megno_map: Option<MegnoMapSummary>,
     /// Files written, relative to the output folder.
     pub files: Vec<String>,
 }
@@ -252,17 +314,114 @@ pub fn run_job(
         _ => None,
     };
     let system = run.star.name.clone().unwrap_or_else(|| name.to_string());
+    let megno_map = match &settings.megno_map {
+        Some(ms) => {
+            let (m, v) = &models[dynf.unwrap_or(models.len() - 1)];
+            Some(megno_map(m, v, ms, &system, out, &mut files)?)
+        }
+        None => None,
+    };
     let report = JobReport {
         system,
         search: search_report,
         fits,
         posterior,
         assessment,
+        megno_map,
         files: files.clone(),
     };
     let mut dummy = Vec::new();
     write_ron_json(out, "job", &report, &mut dummy)?;
     Ok(report)
+}
+
+/// The MEGNO map of `settings` about the solution `values` of `model`,
+/// written as `megno-map.csv` and `megno-map.svg` into `out`.
+///
+/// # Errors
+/// A solution that cannot be mapped (no planet, a run refused for its
+/// length) or a file that cannot be written.
+pub fn megno_map(
+    model: &RvModel,
+    values: &[f64],
+    settings: &MegnoMapSettings,
+    system: &str,
+    out: &Path,
+    files: &mut Vec<String>,
+) -> Result<MegnoMapSummary, JobError> {
+    use crate::nbody::system::OrbitSize;
+    use crate::stability::map::{
+        Axis, BaseSolution, Element, Indicator, MapSettings, map_csv, stability_map,
+    };
+    use crate::stability::run::{
+        RunSettings, StabilityError, settings_for_model, solution_planets,
+    };
+    let (star_mass, star_radius, planets, t_ref) = solution_planets(model, values)?;
+    let outer = planets
+        .len()
+        .checked_sub(1)
+        .ok_or_else(|| StabilityError::BadSystem("the solution has no planet".into()))?;
+    let p = match planets[outer].size {
+        OrbitSize::Period(p) => p,
+        OrbitSize::SemiMajorAxis(_) => {
+            return Err(StabilityError::BadSystem("outer planet given by its axis".into()).into());
+        }
+    };
+    let period_range = (
+        p * (1.0 - settings.period_span),
+        p * (1.0 + settings.period_span),
+    );
+    let map_settings = MapSettings {
+        x: Axis {
+            planet: outer,
+            element: Element::Period,
+            min: period_range.0,
+            max: period_range.1,
+            n: settings.periods,
+        },
+        y: Axis {
+            planet: outer,
+            element: Element::Eccentricity,
+            min: 0.0,
+            max: settings.max_eccentricity,
+            n: settings.eccentricities,
+        },
+        indicator: Indicator::Megno,
+        run: settings_for_model(
+            model,
+            RunSettings {
+                orbits: settings.orbits,
+                megno: true,
+                ..RunSettings::default()
+            },
+        ),
+    };
+    let base = BaseSolution {
+        star_mass,
+        star_radius,
+        planets,
+        t_ref,
+    };
+    let map = stability_map(&base, &map_settings, &|_| {})?;
+    write_file(out, "megno-map.csv", map_csv(&map).as_bytes(), files)?;
+    let svg = super::pictures::map_picture(&map, system).map_err(|e| JobError::Write {
+        path: out.join("megno-map.svg"),
+        why: e.to_string(),
+    })?;
+    write_file(out, "megno-map.svg", svg.as_bytes(), files)?;
+    let limit = 2.0 + crate::stability::megno::REGULAR_MARGIN;
+    let count = |f: &dyn Fn(&crate::stability::map::MapCell) -> bool| {
+        map.cells.iter().filter(|c| f(c)).count()
+    };
+    Ok(MegnoMapSummary {
+        settings: *settings,
+        period_range,
+        cells: map.cells.len(),
+        regular: count(&|c| c.value.is_some_and(|y| y <= limit)),
+        irregular: count(&|c| c.value.is_some_and(|y| y > limit)),
+        disrupted: count(&|c| c.disrupted()),
+        missing: count(&|c| c.value.is_none() && !c.disrupted()),
+    })
 }
 
 /// A concise summary of the job for people.
@@ -359,6 +518,20 @@ pub fn job_summary(r: &JobReport) -> String {
                 100.0 * sv.interval.upper
             );
         }
+    }
+    if let Some(m) = &r.megno_map {
+        s += &format!(
+            "MEGNO map ({}×{} cells, outer P {:.1}–{:.1} d × e 0–{}, {} orbits each): {} regular, {} chaotic or undecided, {} disrupted\n",
+            m.settings.periods,
+            m.settings.eccentricities,
+            m.period_range.0,
+            m.period_range.1,
+            m.settings.max_eccentricity,
+            m.settings.orbits,
+            m.regular,
+            m.irregular,
+            m.disrupted
+        );
     }
     s.trim_end().to_string()
 }

@@ -1,8 +1,9 @@
 //! The pictures of a job as SVG strings, from its reports: the
 //! periodogram with its peeling steps, the RVs with both models and
 //! residuals, each planet's phase-folded signal, and the posterior's
-//! histograms and pair plot. Drawing is `report::plot`'s; this module only
-//! evaluates the models on grids and arranges the series.
+//! histograms and pair plot, and the heat map of a stability map. Drawing
+//! is `report::plot`'s; this module only evaluates the models on grids and
+//! arranges the series.
 
 use crate::fit::models::{ModelError, ModelKind, RvModel};
 use crate::model::keplerian::{PlanetSignal, add_planet_signal};
@@ -13,6 +14,104 @@ use crate::report::plot::{
 };
 
 use super::search::SearchReport;
+use crate::report::plot::{CellMarks, ColourScale, GridAxis, HeatMapPlot, heat_map_marked};
+use crate::stability::map::{Indicator, StabilityMap};
+
+/// Colour range of ⟨Y⟩ in [`map_picture`]: from 1.5 (below the
+/// quasi-periodic value 2, so that regular cells are not all at the dark
+/// end and periodic ones, ⟨Y⟩ → 0, show as darkest) to 8 (four times the
+/// regular value, well past the chaotic threshold
+/// [`crate::stability::megno::CHAOTIC_MIN`] = 4). Values outside are drawn
+/// at the ends and the colour bar says "clipped".
+pub const MEGNO_CLIP: (f64, f64) = (1.5, 8.0);
+
+/// Colour range of [`map_picture`] for a map: [`MEGNO_CLIP`] for ⟨Y⟩, 0 to
+/// the run length for survival (outer orbits), 0 to 1 for the largest
+/// eccentricity, 0 to the largest cell value for the drift |Δa|/a (at
+/// least 10⁻⁹, so that the range is never empty).
+pub fn map_clip(map: &StabilityMap) -> (f64, f64) {
+    match map.settings.indicator {
+        Indicator::Megno => MEGNO_CLIP,
+        Indicator::SurvivalOrbits => (0.0, map.settings.run.orbits),
+        Indicator::MaxEccentricity => (0.0, 1.0),
+        Indicator::AxisDrift => {
+            let hi = map
+                .cells
+                .iter()
+                .filter_map(|c| c.value)
+                .filter(|v| v.is_finite())
+                .fold(1e-9, f64::max);
+            (0.0, hi)
+        }
+    }
+}
+
+/// The heat map of a stability map (SVG): x and y the two varied
+/// osculating Jacobi elements labelled with name, planet and unit
+/// ([`crate::stability::map::Element::axis_label`]), colour the indicator
+/// ([`Indicator::label`]) on the viridis scale (dark low, light high, so a
+/// grey print keeps the order) clipped to [`map_clip`]. Cells disrupted by
+/// an event before the end of their run
+/// ([`crate::stability::map::MapCell::disrupted`]) carry a dot; with MEGNO,
+/// which is not computed for them, they are filled with the chaotic end
+/// of the scale. Cells without a value (impossible systems, a failed MEGNO
+/// integration) are white with a cross. `system` names the system in the
+/// title.
+///
+/// # Errors
+/// An axis with fewer than two values or with max ≤ min cannot be drawn
+/// as a heat map ([`PlotError::InvalidSetting`]).
+pub fn map_picture(map: &StabilityMap, system: &str) -> Result<String, PictureError> {
+    let s = &map.settings;
+    let clip = map_clip(map);
+    let megno = s.indicator == Indicator::Megno;
+    let values: Vec<f64> = map
+        .cells
+        .iter()
+        .map(|c| match c.value {
+            Some(v) if v.is_finite() => v,
+            _ if megno && c.disrupted() => clip.1,
+            _ => f64::NAN,
+        })
+        .collect();
+    let marked: Vec<bool> = map.cells.iter().map(|c| c.disrupted()).collect();
+    let (xl, yl) = (
+        s.x.element.axis_label(s.x.planet),
+        s.y.element.axis_label(s.y.planet),
+    );
+    let title = format!(
+        "{system}: {}, {} outer orbits per cell",
+        if megno { "MEGNO map" } else { "stability map" },
+        s.run.orbits
+    );
+    let label = "disrupted";
+    Ok(heat_map_marked(
+        &HeatMapPlot {
+            title: &title,
+            x: GridAxis {
+                label: &xl,
+                min: s.x.min,
+                max: s.x.max,
+                count: s.x.n,
+            },
+            y: GridAxis {
+                label: &yl,
+                min: s.y.min,
+                max: s.y.max,
+                count: s.y.n,
+            },
+            values: &values,
+            value_label: s.indicator.label(),
+            clip,
+            scale: ColourScale::Viridis,
+            size: PlotSize::default(),
+        },
+        Some(&CellMarks {
+            marked: &marked,
+            label,
+        }),
+    )?)
+}
 
 /// Why a picture could not be drawn.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]

@@ -99,15 +99,47 @@ where
     Ok(())
 }
 
+/// Cells to mark on top of their colour ([`heat_map_marked`]), e.g. the
+/// runs of a stability map that were disrupted before their end.
+#[derive(Debug, Clone, Copy)]
+pub struct CellMarks<'a> {
+    /// One flag per cell, in the order of [`HeatMapPlot::values`].
+    pub marked: &'a [bool],
+    /// What a mark means, for the key (e.g. "disrupted").
+    pub label: &'a str,
+}
+
+/// Draws the mark of a cell: a black dot ringed in white, visible on every
+/// colour of both scales and in grey.
+fn mark_element(centre: (f64, f64), radius: i32) -> [Circle<(f64, f64), i32>; 2] {
+    [
+        Circle::new(centre, radius + 2, WHITE.filled()),
+        Circle::new(centre, radius, BLACK.filled()),
+    ]
+}
+
 /// Draws a heat map: each cell filled with the colour of its value mapped
 /// linearly from `clip` onto the scale (values outside clipped to the ends),
 /// missing cells white with a cross, and a colour bar at the right labelled
 /// with the value name and the clipping range, plus a "no value" swatch.
 pub fn heat_map(p: &HeatMapPlot<'_>) -> Result<String, PlotError> {
+    heat_map_marked(p, None)
+}
+
+/// [`heat_map`] with some cells marked by a dot (black, ringed in white)
+/// drawn over their colour, and a key entry for the mark below the "no
+/// value" swatch.
+pub fn heat_map_marked(
+    p: &HeatMapPlot<'_>,
+    marks: Option<&CellMarks<'_>>,
+) -> Result<String, PlotError> {
     p.x.check("x axis")?;
     p.y.check("y axis")?;
     let n = p.x.count * p.y.count;
     super::same_len("values", n, p.values.len())?;
+    if let Some(m) = marks {
+        super::same_len("marks", n, m.marked.len())?;
+    }
     let (lo, hi) = p.clip;
     if !(hi > lo) || !lo.is_finite() || !hi.is_finite() {
         return Err(PlotError::InvalidSetting {
@@ -172,10 +204,24 @@ pub fn heat_map(p: &HeatMapPlot<'_>) -> Result<String, PlotError> {
         for (a, b) in missing {
             missing_cell(&mut chart, a, b)?;
         }
+        if let Some(m) = marks {
+            // Dot radius: a fifth of the smaller cell side in pixels.
+            let (pw, ph) = chart.plotting_area().dim_in_pixel();
+            let side = (f64::from(pw) / p.x.count as f64).min(f64::from(ph) / p.y.count as f64);
+            let radius = (0.2 * side).clamp(1.5, 6.0).round() as i32;
+            for j in 0..p.y.count {
+                for i in 0..p.x.count {
+                    if m.marked[j * p.x.count + i] {
+                        chart.draw_series(mark_element((p.x.centre(i), p.y.centre(j)), radius))?;
+                    }
+                }
+            }
+        }
 
         // Colour bar: 64 bands from lo to hi.
         let (sw, sh) = side.dim_in_pixel();
-        let (bar, key) = side.split_vertically(sh.saturating_sub(60));
+        let key_h = if marks.is_some() { 90 } else { 60 };
+        let (bar, key) = side.split_vertically(sh.saturating_sub(key_h));
         let mut cb = ChartBuilder::on(&bar)
             .margin_top(8)
             .margin_right(sw.saturating_sub(110).min(60))
@@ -214,6 +260,17 @@ pub fn heat_map(p: &HeatMapPlot<'_>) -> Result<String, PlotError> {
             (90, 24),
             TextStyle::from((FONT, LEGEND_PX).into_font()).pos(Pos::new(HPos::Left, VPos::Center)),
         ))?;
+        if let Some(m) = marks {
+            key.draw(&Rectangle::new([(60, 46), (84, 70)], WHITE.filled()))?;
+            key.draw(&Rectangle::new([(60, 46), (84, 70)], BLACK))?;
+            key.draw(&Circle::new((72, 58), 5, BLACK.filled()))?;
+            key.draw(&Text::new(
+                m.label,
+                (90, 58),
+                TextStyle::from((FONT, LEGEND_PX).into_font())
+                    .pos(Pos::new(HPos::Left, VPos::Center)),
+            ))?;
+        }
         Ok(())
     })
 }

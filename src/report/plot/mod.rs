@@ -27,7 +27,7 @@ pub use angles::{AnglePlot, AngleRange, AngleSeries, angle_plot};
 pub use axis::{TimeOffset, format_grouped};
 pub use colour::{ColourScale, relative_luminance};
 pub use divergence::{DivergencePlot, divergence_plot};
-pub use heatmap::{GridAxis, HeatMapPlot, heat_map};
+pub use heatmap::{CellMarks, GridAxis, HeatMapPlot, heat_map, heat_map_marked};
 pub use periodogram::{FapLevel, PeriodogramPanel, PeriodogramPlot, periodogram_plot};
 pub use posterior::{
     HistogramGridPlot, PairPlot, PairStyle, ParameterSamples, histogram_grid, pair_plot,
