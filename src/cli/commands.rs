@@ -694,7 +694,7 @@ fn demo(cli: &Cli, a: &DemoArgs) -> Result<(), CliError> {
 
 fn compare(cli: &Cli, a: &RunArgs) -> Result<(), CliError> {
     use apsidal::fit::models::ModelKind;
-    use apsidal::workflow::assess::{AssessSettings, assess};
+    use apsidal::workflow::assess::{AssessSettings, assess_observed};
     let (run, data) = load_run(&a.run)?;
     let name = a.run.display().to_string();
     let report = fit_run(&run, &data, &name, &FitSettings::default())
@@ -724,7 +724,8 @@ fn compare(cli: &Cli, a: &RunArgs) -> Result<(), CliError> {
         ..AssessSettings::default()
     };
     let mut files = Vec::new();
-    let a = assess(
+    let pb = bar(1000, "history", cli.global.quiet);
+    let a = assess_observed(
         &km,
         &kep.fit.values,
         &dm,
@@ -733,8 +734,10 @@ fn compare(cli: &Cli, a: &RunArgs) -> Result<(), CliError> {
         &settings,
         &dir,
         &mut files,
+        &mut |f| pb.set_position((1000.0 * f.clamp(0.0, 1.0)) as u64),
     )
     .map_err(|e| CliError::Internal(e.to_string()))?;
+    pb.finish_and_clear();
     say(cli, &a.comparison.text_summary());
     say(cli, &format!("results in {}", dir.display()));
     Ok(())

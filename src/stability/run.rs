@@ -545,13 +545,18 @@ pub fn run_stability_observed(
         use crate::nbody::variational::VariationalIntegrator;
         use crate::nbody::wisdom_holman::WhSettings;
         use crate::stability::megno::{MegnoSettings, megno_run};
+        // The same step and events as the orbit run above, so the MEGNO
+        // integration follows the trajectory that survived; should it still
+        // stop on an event (it integrates the variational equations too,
+        // with its own output times), ⟨Y⟩ of the shortened run is not kept.
         let integ = VariationalIntegrator::WisdomHolman(WhSettings {
             step: Some(h),
-            ..WhSettings::default()
+            corrector: Corrector::Off,
+            events,
         });
         let m = megno_run(system, integ, settings.orbits, &MegnoSettings::default())
             .map_err(|e| StabilityError::Megno(e.to_string()))?;
-        Some(m.mean_y)
+        (m.classification != crate::stability::megno::Classification::Disrupted).then_some(m.mean_y)
     } else {
         None
     };

@@ -102,8 +102,39 @@ pub fn assess(
     out: &Path,
     files: &mut Vec<String>,
 ) -> Result<Assessment, JobError> {
+    assess_observed(
+        keplerian,
+        kep_values,
+        dynamical,
+        dyn_values,
+        posterior,
+        settings,
+        out,
+        files,
+        &mut |_| {},
+    )
+}
+
+/// [`assess`] reporting the progress of its long integration (the element
+/// history of [`record_history`]) as a fraction in [0, 1] to `progress`,
+/// called on the calling thread; the results are those of [`assess`].
+///
+/// # Errors
+/// As [`assess`].
+#[allow(clippy::too_many_arguments)]
+pub fn assess_observed(
+    keplerian: &RvModel,
+    kep_values: &[f64],
+    dynamical: &RvModel,
+    dyn_values: &[f64],
+    posterior: Option<(&RvModel, &[f64], &Path)>,
+    settings: &AssessSettings,
+    out: &Path,
+    files: &mut Vec<String>,
+    progress: &mut dyn FnMut(f64),
+) -> Result<Assessment, JobError> {
     let system = solution_system(dynamical, dyn_values).map_err(|e| fail(out, "diagnosis", e))?;
-    let run = record_history(&system, &settings.history, |_| {})
+    let run = record_history(&system, &settings.history, progress)
         .map_err(|e| fail(out, "diagnosis", e))?;
     let diagnosis = diagnose_run(&run);
     write_ron_json(out, "diagnosis", &diagnosis, files)?;
