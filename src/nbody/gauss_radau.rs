@@ -902,28 +902,39 @@ impl GaussRadau {
             }
             self.step_a0.copy_from_slice(&self.a0);
             self.step_b.copy_from_slice(&self.b);
+            // Compensated update, term by term as Rein & Spiegel (2015,
+            // §2.2) do, in registers: the sum and its compensation are
+            // loaded once per coordinate and stored once (the same
+            // operations as updating them in memory, so the same bits, but
+            // without a store-to-load round trip on the dependency chain).
             let dt2 = dt * dt;
             for j in 0..n3 {
                 let bj = self.b[j];
-                let (x, cx) = (&mut self.x[j], &mut self.csx[j]);
-                add_cs(x, cx, bj[6] * (1.0 / 72.0) * dt2);
-                add_cs(x, cx, bj[5] * (1.0 / 56.0) * dt2);
-                add_cs(x, cx, bj[4] * (1.0 / 42.0) * dt2);
-                add_cs(x, cx, bj[3] * (1.0 / 30.0) * dt2);
-                add_cs(x, cx, bj[2] * (1.0 / 20.0) * dt2);
-                add_cs(x, cx, bj[1] * (1.0 / 12.0) * dt2);
-                add_cs(x, cx, bj[0] * (1.0 / 6.0) * dt2);
-                add_cs(x, cx, self.a0[j] * (1.0 / 2.0) * dt2);
-                add_cs(x, cx, self.v[j] * dt);
-                let (v, cv) = (&mut self.v[j], &mut self.csv[j]);
-                add_cs(v, cv, bj[6] * (1.0 / 8.0) * dt);
-                add_cs(v, cv, bj[5] * (1.0 / 7.0) * dt);
-                add_cs(v, cv, bj[4] * (1.0 / 6.0) * dt);
-                add_cs(v, cv, bj[3] * (1.0 / 5.0) * dt);
-                add_cs(v, cv, bj[2] * (1.0 / 4.0) * dt);
-                add_cs(v, cv, bj[1] * (1.0 / 3.0) * dt);
-                add_cs(v, cv, bj[0] * (1.0 / 2.0) * dt);
-                add_cs(v, cv, self.a0[j] * dt);
+                let a0 = self.a0[j];
+                let v0 = self.v[j];
+                let (mut x, mut cx) = (self.x[j], self.csx[j]);
+                add_cs(&mut x, &mut cx, bj[6] * (1.0 / 72.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[5] * (1.0 / 56.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[4] * (1.0 / 42.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[3] * (1.0 / 30.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[2] * (1.0 / 20.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[1] * (1.0 / 12.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[0] * (1.0 / 6.0) * dt2);
+                add_cs(&mut x, &mut cx, a0 * (1.0 / 2.0) * dt2);
+                add_cs(&mut x, &mut cx, v0 * dt);
+                let (mut v, mut cv) = (v0, self.csv[j]);
+                add_cs(&mut v, &mut cv, bj[6] * (1.0 / 8.0) * dt);
+                add_cs(&mut v, &mut cv, bj[5] * (1.0 / 7.0) * dt);
+                add_cs(&mut v, &mut cv, bj[4] * (1.0 / 6.0) * dt);
+                add_cs(&mut v, &mut cv, bj[3] * (1.0 / 5.0) * dt);
+                add_cs(&mut v, &mut cv, bj[2] * (1.0 / 4.0) * dt);
+                add_cs(&mut v, &mut cv, bj[1] * (1.0 / 3.0) * dt);
+                add_cs(&mut v, &mut cv, bj[0] * (1.0 / 2.0) * dt);
+                add_cs(&mut v, &mut cv, a0 * dt);
+                self.x[j] = x;
+                self.csx[j] = cx;
+                self.v[j] = v;
+                self.csv[j] = cv;
             }
             if !self.x.iter().chain(self.v.iter()).all(|c| c.is_finite()) {
                 // Leave the last finite state in place (no NaN escapes).
