@@ -52,6 +52,12 @@ fn rvs_with(sys: &System, eps: f64, crit: StepCriterion, general: bool) -> (Vec<
             out[i] = au_per_day_to_m_s(snap.vel[0].z);
         }
         evals += gr.steps() + gr.rejected_steps() + 7 * gr.iterations();
+        println!(
+            "ε = {eps:.0e}, {crit:?}, forward = {forward}: {} steps, {} rejected, {:.3} iterations per step",
+            gr.steps(),
+            gr.rejected_steps(),
+            gr.iterations() as f64 / (gr.steps() + gr.rejected_steps()) as f64
+        );
     }
     (out, evals)
 }

@@ -18,11 +18,14 @@
 //! (F = a₀ + g₀ τ + g₁ τ(τ−h₁) + …, Everhart eq. 8) by predictor–corrector
 //! iteration until the change of b₆ is below 1e-16 relative to the largest
 //! acceleration (Rein & Spiegel 2015, MNRAS 446, 1424, §2.3), at most
-//! [`MAX_ITERATIONS`] times. The step is controlled by the global estimate
-//! ε̃ = max|b₆| / max|a| (Rein & Spiegel 2015, eq. 11 and §3.3): the next
-//! step is Δt (ε/ε̃)^{1/7} (their eq. 12), a step whose proposed successor is
-//! smaller than [`SAFETY`] times itself is rejected and redone, and a step
-//! grows by at most 1/[`SAFETY`]. The b of the next step are predicted from
+//! [`MAX_ITERATIONS`] times. The next step comes from the step polynomial by
+//! one of two published rules ([`StepCriterion`]): by default the per-body
+//! timescale of Pham, Rein & Spiegel (2024), τ² = 2|F|²/(|F′|² + |F″||F|)
+//! at the step end and a next step min τ (7! ε)^{1/7}; or the global
+//! estimate ε̃ = max|b₆| / max|a| of Rein & Spiegel (2015, eq. 11 and
+//! §3.3) and a next step Δt (ε/ε̃)^{1/7} (their eq. 12). Either way a step
+//! whose proposed successor is smaller than [`SAFETY`] times itself is
+//! rejected and redone, and a step grows by at most 1/[`SAFETY`]. The b of the next step are predicted from
 //! those of the last one by Everhart's extrapolation (the e coefficients,
 //! Everhart 1985 eq. 13, with the correction by the last prediction error,
 //! Rein & Spiegel 2015 §2.5). Positions, velocities and time are summed with
