@@ -73,7 +73,6 @@ fn max_diff(a: &[f64], b: &[f64]) -> f64 {
 fn per_body_rule_keeps_round_off_rv_accuracy() {
     let sys = support::two_giants(T_REF);
     let (tight, _) = rvs(&sys, 1e-12, StepCriterion::Global2015);
-    let amp = tight.iter().fold(0.0f64, |m, v| m.max(v.abs()));
     for eps in [1e-10, 1e-9, 1e-8] {
         let (g, ng) = rvs(&sys, eps, StepCriterion::Global2015);
         let (p, np) = rvs(&sys, eps, StepCriterion::PerBody2024);
@@ -84,7 +83,6 @@ fn per_body_rule_keeps_round_off_rv_accuracy() {
         // Round-off level for a 177 m/s signal: both rules within 1e-11 m/s
         // (≈ 6e-14 of the amplitude) of the tight run (measured 3–7e-12).
         assert!(eg < 1e-11 && ep < 1e-11, "ε = {eps:e}: {eg:e} {ep:e}");
-        assert!(ep < 1e-13 * amp * 1e3);
         // The point of the 2024 rule here: fewer force evaluations for the
         // same accuracy (measured 19–28 % fewer).
         assert!(np < ng, "ε = {eps:e}: {np} vs {ng}");

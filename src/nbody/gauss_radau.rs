@@ -100,8 +100,10 @@ pub enum StepCriterion {
     /// real coordinates, next step Δt (ε/ε̃)^{1/7}.
     Global2015,
     /// The criterion of Pham, Rein & Spiegel (2024, Open Journal of
-    /// Astrophysics 7, "Solving the IAS15 timestep criterion problem"),
-    /// REBOUND's default since 2024: for every body the timescale
+    /// Astrophysics 7; reference and the constant 7! cited from memory of
+    /// the paper and of REBOUND's IAS15, its default since 2024), checked
+    /// here against the 2015 rule (tests/nbody_gauss_radau_criterion.rs)
+    /// and a circular orbit (unit test): for every body the timescale
     /// τ² = 2 y₂ / (y₃ + √(y₄ y₂)) from the squared norms y₂, y₃, y₄ of
     /// the acceleration and of its first two τ-derivatives at the step end
     /// (from the step polynomial), and the next step
@@ -115,8 +117,11 @@ pub enum StepCriterion {
 /// Settings of the Gauss–Radau integrator.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct GaussRadauSettings {
-    /// Step-control parameter ε (dimensionless, > 0): the target of
-    /// max|b₆|/max|a|. Default [`DEFAULT_TOLERANCE`].
+    /// Step-control parameter ε (dimensionless, > 0) of the step rule
+    /// ([`StepCriterion`]): the target of max|b₆|/max|a| for the 2015
+    /// rule, the factor (7! ε)^{1/7} on the smallest body timescale for
+    /// the 2024 rule. Default [`DEFAULT_TOLERANCE`] (round-off for
+    /// planetary orbits with either rule, BENCHMARKS.md).
     pub tolerance: f64,
     /// First trial step in days (magnitude; the sign follows the direction
     /// of travel). `None`: a small fraction (1/20) of the shortest
