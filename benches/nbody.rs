@@ -11,7 +11,7 @@ mod support;
 
 use std::hint::black_box;
 
-use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings};
+use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings, StepCriterion};
 use apsidal::nbody::{Integrator, Snapshot, System};
 use apsidal::units::{G, au_per_day_to_m_s};
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -26,8 +26,22 @@ fn epochs() -> Vec<f64> {
 }
 
 /// Star RVs (m/s) at `epochs` (sorted) with Gauss–Radau at tolerance
-/// `eps`: one integrator forward from t_ref, one backward.
+/// `eps` and the default settings (step rule of Pham, Rein & Spiegel 2024,
+/// fixed-size inner loop): one integrator forward from t_ref, one backward.
 fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) -> u64 {
+    gr_rv_with(sys, epochs, eps, StepCriterion::PerBody2024, false, out)
+}
+
+/// As [`gr_rv`] with a chosen step rule and, with `general`, the general
+/// slice-based inner loop (the code before the fixed-size copy).
+fn gr_rv_with(
+    sys: &System,
+    epochs: &[f64],
+    eps: f64,
+    crit: StepCriterion,
+    general: bool,
+    out: &mut [f64],
+) -> u64 {
     let st = GaussRadauSettings {
         tolerance: eps,
         ..GaussRadauSettings::default()
@@ -36,11 +50,15 @@ fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) -> u64 {
     let mut snap = Snapshot::zeros(n, 0.0);
     let split = epochs.partition_point(|t| *t < T_REF);
     let mut fwd = GaussRadau::new(sys.clone(), st).unwrap();
+    fwd.set_step_criterion(crit);
+    fwd.set_general_loop(general);
     for i in split..epochs.len() {
         fwd.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
     }
     let mut back = GaussRadau::new(sys.clone(), st).unwrap();
+    back.set_step_criterion(crit);
+    back.set_general_loop(general);
     for i in (0..split).rev() {
         back.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
@@ -146,6 +164,11 @@ fn bench(c: &mut Criterion) {
     println!(
         "RV amplitude {amp:.1} m/s; Gauss–Radau ε = 1e-9 vs 1e-11: max |Δv| = {gr_err:.2e} m/s"
     );
+    let n_old = gr_rv_with(&sys, &ep, 1e-9, StepCriterion::Global2015, true, &mut tmp);
+    println!(
+        "Gauss–Radau ε = 1e-9, 2015 global step rule: max |Δv| vs default = {:.2e} m/s, {n_old} force evaluations",
+        max_diff(&tmp, &reference)
+    );
     let mut gr_ladder = Vec::new();
     for eps in [1e-8, 1e-7, 1e-6, 1e-5, 1e-4, 1e-3, 1e-2] {
         let n_ev = gr_rv(&sys, &ep, eps, &mut tmp);
@@ -178,6 +201,34 @@ fn bench(c: &mut Criterion) {
     let mut out = vec![0.0; N_EPOCHS];
     g.bench_function("gauss_radau_eps1e-9", |b| {
         b.iter(|| gr_rv(black_box(&sys), &ep, 1e-9, &mut out))
+    });
+    // Baselines: the 2015 step rule with the general loop (the code before
+    // this bench's last change) and with the fixed-size loop.
+    for (name, general) in [("general_loop", true), ("fixed_loop", false)] {
+        g.bench_function(format!("gauss_radau_eps1e-9_rule2015_{name}"), |b| {
+            b.iter(|| {
+                gr_rv_with(
+                    black_box(&sys),
+                    &ep,
+                    1e-9,
+                    StepCriterion::Global2015,
+                    general,
+                    &mut out,
+                )
+            })
+        });
+    }
+    g.bench_function("gauss_radau_eps1e-9_rule2024_general_loop", |b| {
+        b.iter(|| {
+            gr_rv_with(
+                black_box(&sys),
+                &ep,
+                1e-9,
+                StepCriterion::PerBody2024,
+                true,
+                &mut out,
+            )
+        })
     });
     for (tol, eps) in pairs {
         g.bench_function(format!("dop853_tol{tol:.0e}"), |b| {

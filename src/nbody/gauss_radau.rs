@@ -18,11 +18,14 @@
 //! (F = a₀ + g₀ τ + g₁ τ(τ−h₁) + …, Everhart eq. 8) by predictor–corrector
 //! iteration until the change of b₆ is below 1e-16 relative to the largest
 //! acceleration (Rein & Spiegel 2015, MNRAS 446, 1424, §2.3), at most
-//! [`MAX_ITERATIONS`] times. The step is controlled by the global estimate
-//! ε̃ = max|b₆| / max|a| (Rein & Spiegel 2015, eq. 11 and §3.3): the next
-//! step is Δt (ε/ε̃)^{1/7} (their eq. 12), a step whose proposed successor is
-//! smaller than [`SAFETY`] times itself is rejected and redone, and a step
-//! grows by at most 1/[`SAFETY`]. The b of the next step are predicted from
+//! [`MAX_ITERATIONS`] times. The next step comes from the step polynomial by
+//! one of two published rules ([`StepCriterion`]): by default the per-body
+//! timescale of Pham, Rein & Spiegel (2024), τ² = 2|F|²/(|F′|² + |F″||F|)
+//! at the step end and a next step min τ (7! ε)^{1/7}; or the global
+//! estimate ε̃ = max|b₆| / max|a| of Rein & Spiegel (2015, eq. 11 and
+//! §3.3) and a next step Δt (ε/ε̃)^{1/7} (their eq. 12). Either way a step
+//! whose proposed successor is smaller than [`SAFETY`] times itself is
+//! rejected and redone, and a step grows by at most 1/[`SAFETY`]. The b of the next step are predicted from
 //! those of the last one by Everhart's extrapolation (the e coefficients,
 //! Everhart 1985 eq. 13, with the correction by the last prediction error,
 //! Rein & Spiegel 2015 §2.5). Positions, velocities and time are summed with
@@ -89,11 +92,36 @@ pub const SAFETY: f64 = 0.25;
 /// the error at the round-off level for planetary orbits).
 pub const DEFAULT_TOLERANCE: f64 = 1e-9;
 
+/// Which published rule turns the step polynomial into the next step size.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum StepCriterion {
+    /// The global criterion of IAS15 as first published (Rein & Spiegel
+    /// 2015, MNRAS 446, 1424, eqs. 11–12): ε̃ = max|b₆| / max|a| over all
+    /// real coordinates, next step Δt (ε/ε̃)^{1/7}.
+    Global2015,
+    /// The criterion of Pham, Rein & Spiegel (2024, Open Journal of
+    /// Astrophysics 7; reference and the constant 7! cited from memory of
+    /// the paper and of REBOUND's IAS15, its default since 2024), checked
+    /// here against the 2015 rule (tests/nbody_gauss_radau_criterion.rs)
+    /// and a circular orbit (unit test): for every body the timescale
+    /// τ² = 2 y₂ / (y₃ + √(y₄ y₂)) from the squared norms y₂, y₃, y₄ of
+    /// the acceleration and of its first two τ-derivatives at the step end
+    /// (from the step polynomial), and the next step
+    /// Δt min_bodies τ (7! ε)^{1/7}. It does not depend on how large the
+    /// accelerations of the other bodies are, and takes longer steps for
+    /// the same round-off accuracy on planetary orbits (BENCHMARKS.md).
+    #[default]
+    PerBody2024,
+}
+
 /// Settings of the Gauss–Radau integrator.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct GaussRadauSettings {
-    /// Step-control parameter ε (dimensionless, > 0): the target of
-    /// max|b₆|/max|a|. Default [`DEFAULT_TOLERANCE`].
+    /// Step-control parameter ε (dimensionless, > 0) of the step rule
+    /// ([`StepCriterion`]): the target of max|b₆|/max|a| for the 2015
+    /// rule, the factor (7! ε)^{1/7} on the smallest body timescale for
+    /// the 2024 rule. Default [`DEFAULT_TOLERANCE`] (round-off for
+    /// planetary orbits with either rule, BENCHMARKS.md).
     pub tolerance: f64,
     /// First trial step in days (magnitude; the sign follows the direction
     /// of travel). `None`: a small fraction (1/20) of the shortest
@@ -278,6 +306,72 @@ fn predict_next(
     }
 }
 
+/// Newtonian accelerations of flat positions, exactly the arithmetic of
+/// [`newtonian_accelerations_flat`] (same operations in the same order,
+/// bit-identical; unit-tested below), inlined into the fixed-size corrector
+/// pass so that the body count is a compile-time constant there.
+#[inline(always)]
+fn newtonian_fixed<const M: usize>(masses: &[f64], pos: &[f64; M], acc: &mut [f64; M]) {
+    let n = M / 3;
+    let masses = &masses[..n];
+    *acc = [0.0; M];
+    for i in 0..n {
+        let (xi, yi, zi) = (pos[3 * i], pos[3 * i + 1], pos[3 * i + 2]);
+        let mi = masses[i];
+        let (mut ax, mut ay, mut az) = (0.0, 0.0, 0.0);
+        for j in (i + 1)..n {
+            let dx = pos[3 * j] - xi;
+            let dy = pos[3 * j + 1] - yi;
+            let dz = pos[3 * j + 2] - zi;
+            let r2 = dx * dx + dy * dy + dz * dz;
+            let f = G / (r2 * r2.sqrt());
+            let fj = f * masses[j];
+            ax += fj * dx;
+            ay += fj * dy;
+            az += fj * dz;
+            let fi = f * mi;
+            acc[3 * j] -= fi * dx;
+            acc[3 * j + 1] -= fi * dy;
+            acc[3 * j + 2] -= fi * dz;
+        }
+        acc[3 * i] += ax;
+        acc[3 * i + 1] += ay;
+        acc[3 * i + 2] += az;
+    }
+}
+
+/// The smallest squared timescale (in units of the step squared) over the
+/// bodies of a step, for [`StepCriterion::PerBody2024`] (Pham, Rein &
+/// Spiegel 2024): per body, y₂ = |F(1)|², y₃ = |F′(1)|², y₄ = |F″(1)|²
+/// with F(τ) = a₀ + Σ b_k τ^{k+1} and its τ-derivatives at the step end,
+/// and τ² = 2 y₂ / (y₃ + √(y₄ y₂)). Bodies whose y₂ is zero or not normal
+/// (no acceleration) or whose τ² is not normal are skipped; +∞ when none
+/// is left. `a0` and `b` are the real coordinates, three per body.
+fn min_timescale2(a0: &[f64], b: &[[f64; 7]]) -> f64 {
+    let mut min_ts2 = f64::INFINITY;
+    for (a0i, bi) in a0.chunks_exact(3).zip(b.chunks_exact(3)) {
+        let (mut y2, mut y3, mut y4) = (0.0, 0.0, 0.0);
+        for (&a, p) in a0i.iter().zip(bi) {
+            let f = a + p[0] + p[1] + p[2] + p[3] + p[4] + p[5] + p[6];
+            let f1 =
+                p[0] + 2.0 * p[1] + 3.0 * p[2] + 4.0 * p[3] + 5.0 * p[4] + 6.0 * p[5] + 7.0 * p[6];
+            let f2 =
+                2.0 * p[1] + 6.0 * p[2] + 12.0 * p[3] + 20.0 * p[4] + 30.0 * p[5] + 42.0 * p[6];
+            y2 += f * f;
+            y3 += f1 * f1;
+            y4 += f2 * f2;
+        }
+        if !y2.is_normal() {
+            continue;
+        }
+        let ts2 = 2.0 * y2 / (y3 + (y4 * y2).sqrt());
+        if ts2.is_normal() && ts2 < min_ts2 {
+            min_ts2 = ts2;
+        }
+    }
+    min_ts2
+}
+
 /// Scratch buffers for the force evaluation (allocated once).
 #[derive(Debug, Clone)]
 struct ForceBuffers {
@@ -451,6 +545,13 @@ pub struct GaussRadau {
     steps: u64,
     rejected: u64,
     iterations: u64,
+    /// Step-size rule and its constant factor (7! ε)^{1/7} (for
+    /// [`StepCriterion::PerBody2024`]).
+    criterion: StepCriterion,
+    per_body_factor: f64,
+    /// Use only the general slice-based corrector pass (for benchmarks and
+    /// the bit-identity test of the fixed-size pass).
+    general_loop: bool,
 }
 
 impl GaussRadau {
@@ -582,6 +683,9 @@ impl GaussRadau {
             steps: 0,
             rejected: 0,
             iterations: 0,
+            criterion: StepCriterion::default(),
+            per_body_factor: (5040.0 * settings.tolerance).powf(1.0 / 7.0),
+            general_loop: false,
         };
         for k in 1..n {
             gr.last_rdotv[k] = gr.rel(k).0.dot(&gr.rel(k).1);
@@ -598,6 +702,25 @@ impl GaussRadau {
             state: self.snapshot(),
             post_newtonian: self.post_newtonian,
         }
+    }
+
+    /// Choose the step-size rule (default [`StepCriterion::PerBody2024`]).
+    /// Takes effect from the next step.
+    pub fn set_step_criterion(&mut self, criterion: StepCriterion) {
+        self.criterion = criterion;
+    }
+
+    /// The step-size rule in use.
+    pub fn step_criterion(&self) -> StepCriterion {
+        self.criterion
+    }
+
+    /// With `true`, always run the general slice-based predictor–corrector
+    /// pass instead of its fixed-size copy for 2–10 bodies. The results
+    /// are bit-identical (same arithmetic in the same order); only the
+    /// speed differs. Kept as the baseline of `benches/nbody.rs`.
+    pub fn set_general_loop(&mut self, general: bool) {
+        self.general_loop = general;
     }
 
     /// Number of accepted steps so far.
@@ -716,65 +839,7 @@ impl GaussRadau {
                 }
                 pc_err_last = pc_err;
                 iter += 1;
-                let mut max_delta6: f64 = 0.0;
-                let mut max_at: f64 = 0.0;
-                for (n, &tau) in NODES.iter().enumerate().skip(1) {
-                    let s_dt = dt * tau;
-                    let wn = self.tables.w[n];
-                    let dt2 = dt * dt;
-                    let wa = wn[0] * dt2;
-                    let wb = [
-                        wn[1] * dt2,
-                        wn[2] * dt2,
-                        wn[3] * dt2,
-                        wn[4] * dt2,
-                        wn[5] * dt2,
-                        wn[6] * dt2,
-                        wn[7] * dt2,
-                    ];
-                    for ((xs, (&x, &cs)), (&v, (&a0, b))) in self
-                        .xs
-                        .iter_mut()
-                        .zip(self.x.iter().zip(&self.csx))
-                        .zip(self.v.iter().zip(self.a0.iter().zip(&self.b)))
-                    {
-                        let p = (wa * a0 + wb[0] * b[0] + wb[1] * b[1] + wb[2] * b[2])
-                            + (wb[3] * b[3] + wb[4] * b[4] + wb[5] * b[5] + wb[6] * b[6]);
-                        *xs = x + ((s_dt * v + p) - cs);
-                    }
-                    if self.post_newtonian {
-                        for ((vs, (&v, &cs)), (&a0, b)) in self
-                            .vs
-                            .iter_mut()
-                            .zip(self.v.iter().zip(&self.csv))
-                            .zip(self.a0.iter().zip(&self.b))
-                        {
-                            *vs = v + (vel_poly(dt, tau, a0, b) - cs);
-                        }
-                    }
-                    self.forces.eval_all(
-                        &self.masses,
-                        self.post_newtonian,
-                        nr,
-                        ntan,
-                        &self.xs,
-                        &self.vs,
-                        &mut self.at,
-                    );
-                    let inv = &self.tables.inv[n];
-                    let c = &self.tables.c[n - 1];
-                    let (at, a0, g, b) = (&self.at, &self.a0, &mut self.g, &mut self.b);
-                    // Convergence is judged on the real bodies only.
-                    let md =
-                        corrector_node(n, inv, c, &at[..nr], &a0[..nr], &mut g[..nr], &mut b[..nr]);
-                    if ntan > 0 {
-                        corrector_node(n, inv, c, &at[nr..], &a0[nr..], &mut g[nr..], &mut b[nr..]);
-                    }
-                    if n == 7 {
-                        max_delta6 = md;
-                        max_at = at[..nr].iter().fold(0.0f64, |m, a| m.max(a.abs()));
-                    }
-                }
+                let (max_delta6, max_at) = self.corrector_pass(dt);
                 pc_err = if max_at > 0.0 {
                     max_delta6 / max_at
                 } else {
@@ -802,11 +867,23 @@ impl GaussRadau {
             if !finite {
                 return Err(NbodyError::NonFinite { t: self.t });
             }
-            let err = if max_a > 0.0 { max_b6 / max_a } else { 0.0 };
-            let dt_new = if err > 0.0 {
-                dt * (self.settings.tolerance / err).powf(1.0 / 7.0)
-            } else {
-                dt / SAFETY
+            let dt_new = match self.criterion {
+                StepCriterion::Global2015 => {
+                    let err = if max_a > 0.0 { max_b6 / max_a } else { 0.0 };
+                    if err > 0.0 {
+                        dt * (self.settings.tolerance / err).powf(1.0 / 7.0)
+                    } else {
+                        dt / SAFETY
+                    }
+                }
+                StepCriterion::PerBody2024 => {
+                    let ts2 = min_timescale2(&self.a0[..nr], &self.b[..nr]);
+                    if ts2.is_normal() {
+                        ts2.sqrt() * dt * self.per_body_factor
+                    } else {
+                        dt / SAFETY
+                    }
+                }
             };
             if !forced && (dt_new / dt).abs() < SAFETY {
                 // Reject: redo with the smaller step, predicting b from the
@@ -833,28 +910,39 @@ impl GaussRadau {
             }
             self.step_a0.copy_from_slice(&self.a0);
             self.step_b.copy_from_slice(&self.b);
+            // Compensated update, term by term as Rein & Spiegel (2015,
+            // §2.2) do, in registers: the sum and its compensation are
+            // loaded once per coordinate and stored once (the same
+            // operations as updating them in memory, so the same bits, but
+            // without a store-to-load round trip on the dependency chain).
             let dt2 = dt * dt;
             for j in 0..n3 {
                 let bj = self.b[j];
-                let (x, cx) = (&mut self.x[j], &mut self.csx[j]);
-                add_cs(x, cx, bj[6] * (1.0 / 72.0) * dt2);
-                add_cs(x, cx, bj[5] * (1.0 / 56.0) * dt2);
-                add_cs(x, cx, bj[4] * (1.0 / 42.0) * dt2);
-                add_cs(x, cx, bj[3] * (1.0 / 30.0) * dt2);
-                add_cs(x, cx, bj[2] * (1.0 / 20.0) * dt2);
-                add_cs(x, cx, bj[1] * (1.0 / 12.0) * dt2);
-                add_cs(x, cx, bj[0] * (1.0 / 6.0) * dt2);
-                add_cs(x, cx, self.a0[j] * (1.0 / 2.0) * dt2);
-                add_cs(x, cx, self.v[j] * dt);
-                let (v, cv) = (&mut self.v[j], &mut self.csv[j]);
-                add_cs(v, cv, bj[6] * (1.0 / 8.0) * dt);
-                add_cs(v, cv, bj[5] * (1.0 / 7.0) * dt);
-                add_cs(v, cv, bj[4] * (1.0 / 6.0) * dt);
-                add_cs(v, cv, bj[3] * (1.0 / 5.0) * dt);
-                add_cs(v, cv, bj[2] * (1.0 / 4.0) * dt);
-                add_cs(v, cv, bj[1] * (1.0 / 3.0) * dt);
-                add_cs(v, cv, bj[0] * (1.0 / 2.0) * dt);
-                add_cs(v, cv, self.a0[j] * dt);
+                let a0 = self.a0[j];
+                let v0 = self.v[j];
+                let (mut x, mut cx) = (self.x[j], self.csx[j]);
+                add_cs(&mut x, &mut cx, bj[6] * (1.0 / 72.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[5] * (1.0 / 56.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[4] * (1.0 / 42.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[3] * (1.0 / 30.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[2] * (1.0 / 20.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[1] * (1.0 / 12.0) * dt2);
+                add_cs(&mut x, &mut cx, bj[0] * (1.0 / 6.0) * dt2);
+                add_cs(&mut x, &mut cx, a0 * (1.0 / 2.0) * dt2);
+                add_cs(&mut x, &mut cx, v0 * dt);
+                let (mut v, mut cv) = (v0, self.csv[j]);
+                add_cs(&mut v, &mut cv, bj[6] * (1.0 / 8.0) * dt);
+                add_cs(&mut v, &mut cv, bj[5] * (1.0 / 7.0) * dt);
+                add_cs(&mut v, &mut cv, bj[4] * (1.0 / 6.0) * dt);
+                add_cs(&mut v, &mut cv, bj[3] * (1.0 / 5.0) * dt);
+                add_cs(&mut v, &mut cv, bj[2] * (1.0 / 4.0) * dt);
+                add_cs(&mut v, &mut cv, bj[1] * (1.0 / 3.0) * dt);
+                add_cs(&mut v, &mut cv, bj[0] * (1.0 / 2.0) * dt);
+                add_cs(&mut v, &mut cv, a0 * dt);
+                self.x[j] = x;
+                self.csx[j] = cx;
+                self.v[j] = v;
+                self.csv[j] = cv;
             }
             if !self.x.iter().chain(self.v.iter()).all(|c| c.is_finite()) {
                 // Leave the last finite state in place (no NaN escapes).
@@ -878,6 +966,150 @@ impl GaussRadau {
             self.dt = dt_next;
             return self.check_events();
         }
+    }
+
+    /// One predictor–corrector pass over the seven nodes of a step of
+    /// length `dt` (Everhart 1985 eqs. 8–10): predicted positions (and
+    /// velocities with the 1PN term), forces, and the corrector at every
+    /// node. Returns max|Δb₆| and max|a| at the last node over the real
+    /// coordinates. Dispatches to a fixed-size copy of the same arithmetic
+    /// (same operations in the same order, so bit-identical results) for
+    /// the common case of 2–10 bodies without tangents or 1PN.
+    #[inline]
+    fn corrector_pass(&mut self, dt: f64) -> (f64, f64) {
+        if self.ntan == 0 && !self.post_newtonian && !self.general_loop {
+            let r = match self.nr {
+                6 => self.corrector_pass_fixed::<6>(dt),
+                9 => self.corrector_pass_fixed::<9>(dt),
+                12 => self.corrector_pass_fixed::<12>(dt),
+                15 => self.corrector_pass_fixed::<15>(dt),
+                18 => self.corrector_pass_fixed::<18>(dt),
+                21 => self.corrector_pass_fixed::<21>(dt),
+                24 => self.corrector_pass_fixed::<24>(dt),
+                27 => self.corrector_pass_fixed::<27>(dt),
+                30 => self.corrector_pass_fixed::<30>(dt),
+                _ => None,
+            };
+            if let Some(r) = r {
+                return r;
+            }
+        }
+        self.corrector_pass_general(dt)
+    }
+
+    /// [`GaussRadau::corrector_pass`] on slices of any length (tangent
+    /// blocks and the 1PN term included).
+    fn corrector_pass_general(&mut self, dt: f64) -> (f64, f64) {
+        let (nr, ntan) = (self.nr, self.ntan);
+        let mut max_delta6: f64 = 0.0;
+        let mut max_at: f64 = 0.0;
+        for (n, &tau) in NODES.iter().enumerate().skip(1) {
+            let s_dt = dt * tau;
+            let wn = self.tables.w[n];
+            let dt2 = dt * dt;
+            let wa = wn[0] * dt2;
+            let wb = [
+                wn[1] * dt2,
+                wn[2] * dt2,
+                wn[3] * dt2,
+                wn[4] * dt2,
+                wn[5] * dt2,
+                wn[6] * dt2,
+                wn[7] * dt2,
+            ];
+            for ((xs, (&x, &cs)), (&v, (&a0, b))) in self
+                .xs
+                .iter_mut()
+                .zip(self.x.iter().zip(&self.csx))
+                .zip(self.v.iter().zip(self.a0.iter().zip(&self.b)))
+            {
+                let p = (wa * a0 + wb[0] * b[0] + wb[1] * b[1] + wb[2] * b[2])
+                    + (wb[3] * b[3] + wb[4] * b[4] + wb[5] * b[5] + wb[6] * b[6]);
+                *xs = x + ((s_dt * v + p) - cs);
+            }
+            if self.post_newtonian {
+                for ((vs, (&v, &cs)), (&a0, b)) in self
+                    .vs
+                    .iter_mut()
+                    .zip(self.v.iter().zip(&self.csv))
+                    .zip(self.a0.iter().zip(&self.b))
+                {
+                    *vs = v + (vel_poly(dt, tau, a0, b) - cs);
+                }
+            }
+            self.forces.eval_all(
+                &self.masses,
+                self.post_newtonian,
+                nr,
+                ntan,
+                &self.xs,
+                &self.vs,
+                &mut self.at,
+            );
+            let inv = &self.tables.inv[n];
+            let c = &self.tables.c[n - 1];
+            let (at, a0, g, b) = (&self.at, &self.a0, &mut self.g, &mut self.b);
+            // Convergence is judged on the real bodies only.
+            let md = corrector_node(n, inv, c, &at[..nr], &a0[..nr], &mut g[..nr], &mut b[..nr]);
+            if ntan > 0 {
+                corrector_node(n, inv, c, &at[nr..], &a0[nr..], &mut g[nr..], &mut b[nr..]);
+            }
+            if n == 7 {
+                max_delta6 = md;
+                max_at = at[..nr].iter().fold(0.0f64, |m, a| m.max(a.abs()));
+            }
+        }
+        (max_delta6, max_at)
+    }
+
+    /// [`GaussRadau::corrector_pass`] for `M` = 3N real coordinates and
+    /// nothing else (Newtonian forces, no tangents): the arrays as
+    /// fixed-size arrays, so the loops over coordinates are unrolled and
+    /// free of bounds checks. `None` when the lengths do not match.
+    #[inline(always)]
+    fn corrector_pass_fixed<const M: usize>(&mut self, dt: f64) -> Option<(f64, f64)> {
+        let x: &[f64; M] = self.x.as_slice().try_into().ok()?;
+        let csx: &[f64; M] = self.csx.as_slice().try_into().ok()?;
+        let v: &[f64; M] = self.v.as_slice().try_into().ok()?;
+        let a0: &[f64; M] = self.a0.as_slice().try_into().ok()?;
+        let xs: &mut [f64; M] = self.xs.as_mut_slice().try_into().ok()?;
+        let at: &mut [f64; M] = self.at.as_mut_slice().try_into().ok()?;
+        let b: &mut [[f64; 7]; M] = self.b.as_mut_slice().try_into().ok()?;
+        let g: &mut [[f64; 7]; M] = self.g.as_mut_slice().try_into().ok()?;
+        let masses = self.masses.get(..M / 3)?;
+        let tables = &self.tables;
+        let mut max_delta6: f64 = 0.0;
+        let mut max_at: f64 = 0.0;
+        for (n, &tau) in NODES.iter().enumerate().skip(1) {
+            let s_dt = dt * tau;
+            let wn = tables.w[n];
+            let dt2 = dt * dt;
+            let wa = wn[0] * dt2;
+            let wb = [
+                wn[1] * dt2,
+                wn[2] * dt2,
+                wn[3] * dt2,
+                wn[4] * dt2,
+                wn[5] * dt2,
+                wn[6] * dt2,
+                wn[7] * dt2,
+            ];
+            for j in 0..M {
+                let bj = &b[j];
+                let p = (wa * a0[j] + wb[0] * bj[0] + wb[1] * bj[1] + wb[2] * bj[2])
+                    + (wb[3] * bj[3] + wb[4] * bj[4] + wb[5] * bj[5] + wb[6] * bj[6]);
+                xs[j] = x[j] + ((s_dt * v[j] + p) - csx[j]);
+            }
+            newtonian_fixed(masses, xs, at);
+            let inv = &tables.inv[n];
+            let c = &tables.c[n - 1];
+            let md = corrector_node(n, inv, c, &at[..], &a0[..], &mut g[..], &mut b[..]);
+            if n == 7 {
+                max_delta6 = md;
+                max_at = at.iter().fold(0.0f64, |m, a| m.max(a.abs()));
+            }
+        }
+        Some((max_delta6, max_at))
     }
 
     /// Event checks at the current step boundary (see [`GaussRadau::new`]).
@@ -1266,6 +1498,52 @@ mod tests {
         // c₀ = −h₁, d₀ = h₁.
         assert_eq!(t.c[1][0], -NODES[1]);
         assert_eq!(t.d[1][0], NODES[1]);
+    }
+
+    #[test]
+    fn fixed_size_force_is_bit_identical_to_the_shared_one() {
+        // The inlined copy must reproduce forces.rs exactly (same
+        // arithmetic), which is itself tested against Newton's third law
+        // and the two-body limit there.
+        let m = [1.0, 1e-3, 3e-4, 2e-5];
+        let p = [
+            0.001, -0.002, 0.0005, 0.4, 0.1, -0.02, -0.3, 0.9, 0.05, 1.5, -0.7, 0.3,
+        ];
+        let mut want = [0.0; 12];
+        newtonian_accelerations_flat(&m, &p, &mut want);
+        let mut got = [1.0; 12];
+        newtonian_fixed::<12>(&m, &p, &mut got);
+        assert_eq!(got, want);
+    }
+
+    #[test]
+    fn per_body_timescale_of_a_circular_orbit_is_one_over_n() {
+        // Uniform circular motion: F(τ) = −ω² r(τ) with ω = n Δt per step,
+        // so |F| = ω² r, |F′| = ω³ r, |F″| = ω⁴ r and the timescale
+        // τ² = 2 y₂/(y₃ + √(y₄ y₂)) = 1/ω² (Pham, Rein & Spiegel 2024;
+        // exact for a circle). The b of the Taylor series of
+        // −ω² (cos ωτ, sin ωτ) truncated at τ⁷ give it to ≈ ω⁸.
+        let w: f64 = 0.05;
+        let mut a0 = [0.0; 3];
+        let mut b = [[0.0; 7]; 3];
+        a0[0] = -w * w;
+        let mut fact = 1.0;
+        for k in 1..=7 {
+            fact *= k as f64;
+            // d^k/dτ^k of −ω² cos ωτ and −ω² sin ωτ at τ = 0.
+            let (cx, cy) = match k % 4 {
+                0 => (1.0, 0.0),
+                1 => (0.0, 1.0),
+                2 => (-1.0, 0.0),
+                _ => (0.0, -1.0),
+            };
+            b[0][k - 1] = -w * w * cx * w.powi(k as i32) / fact;
+            b[1][k - 1] = -w * w * cy * w.powi(k as i32) / fact;
+        }
+        let ts2 = min_timescale2(&a0, &b);
+        assert!((ts2 * w * w - 1.0).abs() < 1e-9, "{}", ts2 * w * w);
+        // No acceleration: skipped.
+        assert_eq!(min_timescale2(&[0.0; 3], &[[0.0; 7]; 3]), f64::INFINITY);
     }
 
     #[test]
