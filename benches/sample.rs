@@ -3,6 +3,13 @@
 //! with 1 and 2 rayon threads. The parallel efficiency is
 //! t(1 thread) / (2 · t(2 threads)) from the same run; the sampler's own
 //! overhead on the costly target is t(1 thread) / (steps · 32 · t(call)).
+//!
+//! `sample_checkpoint`: the cost of one checkpoint written 50 steps after
+//! the previous one, with 100 and with 4000 steps in the chain (32 walkers,
+//! 10 parameters), for the two-file layout (`append`) and for the old
+//! single-file layout that rewrote the whole chain (`whole`, the RON text
+//! of `checkpoint_string` written atomically). The ratio 4000/100 of
+//! `append` shows whether the cost grows with the chain.
 
 use std::hint::black_box;
 use std::time::Duration;
@@ -96,7 +103,51 @@ fn bench_target<T: LogTarget>(c: &mut Criterion, name: &str, t: &T, steps: usize
     group.finish();
 }
 
+fn bench_checkpoint(c: &mut Criterion) {
+    let dir = std::env::temp_dir().join(format!("apsidal-bench-ck-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch folder");
+    let mut group = c.benchmark_group("sample_checkpoint");
+    group.sample_size(20);
+    for steps in [100usize, 4000] {
+        let mut s = sampler(&Cheap);
+        s.run(&Cheap, steps - 50, &mut []).expect("run");
+        let path = dir.join(format!("ck{steps}.ron"));
+        let chain = apsidal::fit::sample::chain_path_for(&path);
+        s.save_checkpoint(&path).expect("checkpoint");
+        let (state_before, chain_len) = (
+            std::fs::read(&path).expect("state"),
+            std::fs::metadata(&chain).expect("chain").len(),
+        );
+        s.run(&Cheap, 50, &mut []).expect("run");
+        group.bench_function(format!("append_{steps}_steps"), |b| {
+            b.iter_batched(
+                || {
+                    // Back to the checkpoint 50 steps ago.
+                    std::fs::write(&path, &state_before).expect("state");
+                    let f = std::fs::OpenOptions::new()
+                        .write(true)
+                        .open(&chain)
+                        .expect("chain");
+                    f.set_len(chain_len).expect("cut");
+                },
+                |()| s.save_checkpoint(&path).expect("checkpoint"),
+                BatchSize::PerIteration,
+            )
+        });
+        let whole = dir.join(format!("whole{steps}.ron"));
+        group.bench_function(format!("whole_{steps}_steps"), |b| {
+            b.iter(|| {
+                let text = s.checkpoint_string().expect("text");
+                apsidal::atomic::write_atomic(&whole, text.as_bytes()).expect("write");
+            })
+        });
+    }
+    group.finish();
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
 fn benches(c: &mut Criterion) {
+    bench_checkpoint(c);
     bench_target(c, "gauss10", &Cheap, 100, 30);
     let costly = Costly {
         spins: COSTLY_SPINS,

@@ -162,6 +162,7 @@ fn sigkill_never_leaves_a_partial_checkpoint() {
             let n = e.file_name().to_string_lossy().to_string();
             assert!(
                 n == "checkpoint.ron"
+                    || n == "checkpoint.chain"
                     || n.ends_with(".tmp")
                     || n == "samples.csv"
                     || n.starts_with("posterior."),

@@ -116,12 +116,104 @@ fn checkpoint_and_resume_equals_uninterrupted_run() {
     resumed.run(&HalfGaussian, 80, &mut []).unwrap();
     assert_same(&whole, &resumed);
 
-    // Only the checkpoint itself is in the folder (no temporary files).
-    let names: Vec<_> = std::fs::read_dir(&dir)
+    // Only the checkpoint's two files are in the folder (no temporary files).
+    let mut names: Vec<_> = std::fs::read_dir(&dir)
         .unwrap()
         .map(|e| e.unwrap().file_name())
         .collect();
-    assert_eq!(names, vec![std::ffi::OsString::from("state.ron")]);
+    names.sort();
+    assert_eq!(
+        names,
+        vec![
+            std::ffi::OsString::from("state.chain"),
+            std::ffi::OsString::from("state.ron")
+        ]
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+/// The chain file grows by one line per step and the state stays small;
+/// a kill after the chain append (extra lines, a torn line) or a state
+/// from another run never corrupts a resume.
+#[test]
+fn chain_file_is_append_only_and_cut_back_to_the_state() {
+    let mut whole = start(31);
+    whole.run(&HalfGaussian, 60, &mut []).unwrap();
+
+    let dir = scratch_dir("append");
+    let path = dir.join("ck.ron");
+    let chain = apsidal::fit::sample::chain_path_for(&path);
+    assert_eq!(chain, dir.join("ck.chain"));
+    let mut s = start(31);
+    let mut ck = Checkpointer::new(&path, 10);
+    let mut stop = StopAt(20);
+    s.run(&HalfGaussian, 100, &mut [&mut ck, &mut stop])
+        .unwrap();
+    let state_20 = std::fs::metadata(&path).unwrap().len();
+    let chain_20 = std::fs::read_to_string(&chain).unwrap();
+    assert_eq!(chain_20.lines().count(), 21, "header + one line per step");
+    let mut stop = StopAt(40);
+    s.run(&HalfGaussian, 100, &mut [&mut ck, &mut stop])
+        .unwrap();
+    let chain_40 = std::fs::read_to_string(&chain).unwrap();
+    // Append-only: the first 20 steps are untouched.
+    assert!(chain_40.starts_with(&chain_20));
+    assert_eq!(chain_40.lines().count(), 41);
+    // The state does not grow with the chain.
+    // (The same fields; only the digits of the numbers differ.)
+    let state_40_len = std::fs::metadata(&path).unwrap().len();
+    assert!(
+        state_40_len.abs_diff(state_20) * 20 < state_20,
+        "{state_20} → {state_40_len} bytes"
+    );
+
+    // A kill after appending steps 41–43 and half of 44, before the state
+    // was replaced: the state (40 steps) rules, the extra bytes are cut.
+    let state_40 = std::fs::read(&path).unwrap();
+    let mut later = s.clone();
+    later.run(&HalfGaussian, 4, &mut []).unwrap();
+    later.save_checkpoint(&path).unwrap();
+    let chain_44 = std::fs::read_to_string(&chain).unwrap();
+    let torn = &chain_44[..chain_44.len() - 40];
+    std::fs::write(&chain, torn).unwrap();
+    std::fs::write(&path, &state_40).unwrap();
+    let mut resumed = EnsembleSampler::load_checkpoint(&path).unwrap();
+    assert_eq!(resumed.steps_done(), 40);
+    assert_eq!(std::fs::read_to_string(&chain).unwrap(), chain_40);
+    // Resume with checkpoints: the chain file ends as the uninterrupted one.
+    let mut ck = Checkpointer::new(&path, 10);
+    resumed.run(&HalfGaussian, 20, &mut [&mut ck]).unwrap();
+    assert_same(&whole, &resumed);
+    assert_same(&whole, &EnsembleSampler::load_checkpoint(&path).unwrap());
+
+    // A fresh run of another seed over these files rewrites the chain
+    // (no rows of the old run are kept) and reads back as itself.
+    let mut other = start(32);
+    other.run(&HalfGaussian, 10, &mut []).unwrap();
+    other.save_checkpoint(&path).unwrap();
+    assert_eq!(std::fs::read_to_string(&chain).unwrap().lines().count(), 11);
+    assert_same(&other, &EnsembleSampler::load_checkpoint(&path).unwrap());
+
+    // A chain shorter than the state vouches for, or of another run, is a
+    // typed error, never a silently different chain.
+    std::fs::write(&chain, &chain_20).unwrap();
+    assert!(matches!(
+        EnsembleSampler::load_checkpoint(&path),
+        Err(SampleError::BadCheckpoint(_))
+    ));
+    std::fs::write(&chain, &chain_40).unwrap();
+    assert!(matches!(
+        EnsembleSampler::load_checkpoint(&path),
+        Err(SampleError::BadCheckpoint(_))
+    ));
+    std::fs::remove_file(&chain).unwrap();
+    assert!(matches!(
+        EnsembleSampler::load_checkpoint(&path),
+        Err(SampleError::ChainFile { .. })
+    ));
+    // The single-string form (format 1) still loads from a file.
+    std::fs::write(&path, whole.checkpoint_string().unwrap()).unwrap();
+    assert_same(&whole, &EnsembleSampler::load_checkpoint(&path).unwrap());
     std::fs::remove_dir_all(&dir).unwrap();
 }
 

@@ -442,7 +442,10 @@ fn stability(cli: &Cli, a: &StabilityArgs) -> Result<(), CliError> {
         },
     )
     .map_err(|e| match e {
-        apsidal::stability::survey::SurveyError::Write(_) => CliError::Internal(e.to_string()),
+        apsidal::stability::survey::SurveyError::Write(_)
+        | apsidal::stability::survey::SurveyError::Journal { .. } => {
+            CliError::Internal(e.to_string())
+        }
         _ => CliError::BadInput(e.to_string()),
     })?;
     pb.finish_and_clear();

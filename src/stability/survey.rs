@@ -30,9 +30,23 @@
 //! min_hill_spacing,hill_stable,amd_stable,megno`. `verdict` is `stable` or
 //! the event label ([`super::run::EventKind::label`]); empty fields mean
 //! "none" (no event, criteria not defined, MEGNO not computed). Numbers are
-//! Rust's shortest round-trip form. Written atomically after every chunk of
-//! rows, so an interrupted survey leaves a valid table of the rows done, and
-//! `resume` skips them.
+//! Rust's shortest round-trip form.
+//!
+//! # Interruptions (kill, power cut)
+//!
+//! The table itself is only ever replaced atomically
+//! ([`crate::atomic::write_atomic`]), so a reader finds no table, the
+//! previous whole one or a newer whole one, never a torn row. So that a
+//! kill loses no finished row, each row is also appended, as soon as it is
+//! done, to a journal beside the table (`<table file name>.partial`: the
+//! header, then one line per finished row in completion order, each with a
+//! single `write` call). The rows of the journal are moved into the table
+//! (atomic rewrite, then the journal is emptied) when the journal holds at
+//! least [`SurveySettings::chunk`] rows and at least a quarter as many as
+//! the table, so the total writing stays proportional to the table size.
+//! `resume` reads the table and the journal, drops a torn last journal line
+//! (a kill mid-write), and runs only the missing rows; the journal is
+//! removed when the survey ends.
 //!
 //! # Stable fraction
 //!
@@ -116,6 +130,15 @@ pub enum SurveyError {
     /// Writing the output failed.
     #[error(transparent)]
     Write(#[from] AtomicWriteError),
+    /// Appending to (or creating, emptying, removing) the journal of
+    /// finished rows failed.
+    #[error("{path}: journal of finished rows: {source}")]
+    Journal {
+        /// The journal file.
+        path: PathBuf,
+        /// The cause.
+        source: std::io::Error,
+    },
     /// The binomial interval was asked for impossible counts or level.
     #[error("binomial interval: {0}")]
     Binomial(String),
@@ -352,7 +375,9 @@ pub struct SurveySettings {
     pub seed: u64,
     /// Which shard to run.
     pub shard: Shard,
-    /// Rows run between two writes of the output (≥ 1).
+    /// Rows run in parallel between two checks for a stop, and the least
+    /// number of journal rows moved into the table at once (≥ 1; module
+    /// docs).
     pub chunk: usize,
     /// Confidence level of the interval on the stable fraction, in (0, 1).
     pub confidence: f64,
@@ -777,24 +802,43 @@ pub fn run_survey(
         header: header.clone(),
         rows: BTreeMap::new(),
     };
-    if resume && output.exists() {
-        let prev = SurveyTable::read(output)?;
-        if prev.header != header {
-            return Err(SurveyError::Mismatch {
-                path: output.to_path_buf(),
-                message: "cannot resume: header differs (another model)".into(),
-            });
+    let set: std::collections::HashSet<usize> = mine.iter().copied().collect();
+    let journal_path = journal_path(output);
+    for p in [output, journal_path.as_path()] {
+        crate::atomic::remove_stale_temps(p).map_err(|source| SurveyError::Journal {
+            path: p.to_path_buf(),
+            source,
+        })?;
+    }
+    if resume {
+        if output.exists() {
+            let prev = SurveyTable::read(output)?;
+            check_resumable(&prev, &header, &set, output)?;
+            out.rows = prev.rows;
         }
-        let set: std::collections::HashSet<usize> = mine.iter().copied().collect();
-        if let Some(k) = prev.rows.keys().find(|k| !set.contains(k)) {
-            return Err(SurveyError::Mismatch {
-                path: output.to_path_buf(),
-                message: format!(
-                    "cannot resume: sample {k} is not in this selection/shard (other seed, max_samples or shard?)"
-                ),
-            });
+        if journal_path.exists() {
+            let text =
+                std::fs::read_to_string(&journal_path).map_err(|source| SurveyError::Read {
+                    path: journal_path.clone(),
+                    source,
+                })?;
+            let journal = parse_journal(&text, &journal_path)?;
+            check_resumable(&journal, &header, &set, &journal_path)?;
+            for (k, l) in journal.rows {
+                match out.rows.get(&k) {
+                    Some(prev) if *prev != l => {
+                        return Err(SurveyError::Mismatch {
+                            path: journal_path.clone(),
+                            message: format!("sample {k} differs from the table's line"),
+                        });
+                    }
+                    Some(_) => {}
+                    None => {
+                        out.rows.insert(k, l);
+                    }
+                }
+            }
         }
-        out.rows = prev.rows;
     }
     let todo: Vec<usize> = mine
         .iter()
@@ -805,7 +849,10 @@ pub fn run_survey(
     let done = AtomicUsize::new(total - todo.len());
     let stop = AtomicBool::new(false);
     let mut complete = true;
+    // The table first (it holds every journal row), then a fresh journal.
     write_atomic(output, out.to_csv().as_bytes())?;
+    let journal = Journal::create(&journal_path, &header)?;
+    let mut in_journal = 0usize;
     for chunk in todo.chunks(settings.chunk) {
         if stop.load(Ordering::SeqCst) {
             complete = false;
@@ -823,20 +870,189 @@ pub fn run_survey(
                         source,
                     }
                 })?;
+                let line = table_line(k, row.walker, row.step, &r);
+                journal.append(&line)?;
                 let d = done.fetch_add(1, Ordering::SeqCst) + 1;
                 if progress(SurveyProgress { done: d, total }) == Flow::Stop {
                     stop.store(true, Ordering::SeqCst);
                 }
-                Ok((k, table_line(k, row.walker, row.step, &r)))
+                Ok((k, line))
             })
             .collect();
+        let mut first_error = None;
         for l in lines {
-            let (k, line) = l?;
-            out.rows.insert(k, line);
+            match l {
+                Ok((k, line)) => {
+                    out.rows.insert(k, line);
+                    in_journal += 1;
+                }
+                Err(e) => {
+                    first_error.get_or_insert(e);
+                }
+            }
         }
-        write_atomic(output, out.to_csv().as_bytes())?;
+        if let Some(e) = first_error {
+            // The finished rows of this chunk stay in the journal.
+            return Err(e);
+        }
+        if in_journal >= settings.chunk.max(out.rows.len() / 4) {
+            write_atomic(output, out.to_csv().as_bytes())?;
+            journal.reset(&header)?;
+            in_journal = 0;
+        }
     }
+    write_atomic(output, out.to_csv().as_bytes())?;
+    journal.remove()?;
     let mut s = summarise(&out, total, settings.confidence)?;
     s.complete = complete && s.n_samples == total;
     Ok(s)
+}
+
+/// The journal of finished rows beside a survey table:
+/// `<table file name>.partial` in the same folder (module docs).
+pub fn journal_path(table: &Path) -> PathBuf {
+    let mut name = table
+        .file_name()
+        .map(std::ffi::OsStr::to_os_string)
+        .unwrap_or_default();
+    name.push(".partial");
+    table.with_file_name(name)
+}
+
+/// Parses a journal: like [`SurveyTable::parse`], except that a last line
+/// without its newline (torn by a kill) is dropped, and a line seen twice
+/// must repeat the same text.
+fn parse_journal(text: &str, path: &Path) -> Result<SurveyTable, SurveyError> {
+    let whole = match text.rfind('\n') {
+        Some(i) => &text[..=i],
+        None => "",
+    };
+    let mut table = SurveyTable {
+        header: String::new(),
+        rows: BTreeMap::new(),
+    };
+    let mut lines = whole.lines();
+    let Some(header) = lines.next() else {
+        return Ok(table);
+    };
+    table.header = header.to_string();
+    // Reuse the table parser for each line (field count, index) but allow
+    // repeats with equal text (a row appended again after a resume).
+    for (i, l) in lines.enumerate() {
+        let one = SurveyTable::parse(&format!("{header}\n{l}\n"), path).map_err(|e| match e {
+            SurveyError::Parse {
+                path,
+                column,
+                name,
+                message,
+                ..
+            } => SurveyError::Parse {
+                path,
+                line: i + 2,
+                column,
+                name,
+                message,
+            },
+            other => other,
+        })?;
+        for (k, line) in one.rows {
+            if let Some(prev) = table.rows.insert(k, line) {
+                if table.rows.get(&k) != Some(&prev) {
+                    return Err(SurveyError::Mismatch {
+                        path: path.to_path_buf(),
+                        message: format!("sample {k} appears twice with different lines"),
+                    });
+                }
+            }
+        }
+    }
+    Ok(table)
+}
+
+/// A table (or journal) to resume must have this survey's header and only
+/// rows of this selection and shard.
+fn check_resumable(
+    prev: &SurveyTable,
+    header: &str,
+    mine: &std::collections::HashSet<usize>,
+    path: &Path,
+) -> Result<(), SurveyError> {
+    if !prev.header.is_empty() && prev.header != header {
+        return Err(SurveyError::Mismatch {
+            path: path.to_path_buf(),
+            message: "cannot resume: header differs (another model)".into(),
+        });
+    }
+    if let Some(k) = prev.rows.keys().find(|k| !mine.contains(k)) {
+        return Err(SurveyError::Mismatch {
+            path: path.to_path_buf(),
+            message: format!(
+                "cannot resume: sample {k} is not in this selection/shard (other seed, max_samples or shard?)"
+            ),
+        });
+    }
+    Ok(())
+}
+
+/// The open journal: appends whole lines from worker threads.
+struct Journal {
+    path: PathBuf,
+    file: std::sync::Mutex<std::fs::File>,
+}
+
+impl Journal {
+    fn io(&self) -> impl Fn(std::io::Error) -> SurveyError + '_ {
+        |source| SurveyError::Journal {
+            path: self.path.clone(),
+            source,
+        }
+    }
+
+    /// Creates (or empties) the journal and writes the header.
+    fn create(path: &Path, header: &str) -> Result<Self, SurveyError> {
+        let file = std::fs::OpenOptions::new()
+            .create(true)
+            .truncate(true)
+            .write(true)
+            .open(path)
+            .map_err(|source| SurveyError::Journal {
+                path: path.to_path_buf(),
+                source,
+            })?;
+        let j = Journal {
+            path: path.to_path_buf(),
+            file: std::sync::Mutex::new(file),
+        };
+        j.append(header)?;
+        Ok(j)
+    }
+
+    /// Appends `line` and a newline in one `write` call.
+    fn append(&self, line: &str) -> Result<(), SurveyError> {
+        use std::io::Write as _;
+        let mut buf = Vec::with_capacity(line.len() + 1);
+        buf.extend_from_slice(line.as_bytes());
+        buf.push(b'\n');
+        let mut f = self.file.lock().unwrap_or_else(|p| p.into_inner());
+        f.write_all(&buf).map_err(self.io())
+    }
+
+    /// Empties the journal (its rows are in the table now) and writes the
+    /// header again.
+    fn reset(&self, header: &str) -> Result<(), SurveyError> {
+        use std::io::{Seek as _, SeekFrom};
+        {
+            let mut f = self.file.lock().unwrap_or_else(|p| p.into_inner());
+            f.set_len(0).map_err(self.io())?;
+            f.seek(SeekFrom::Start(0)).map_err(self.io())?;
+        }
+        self.append(header)
+    }
+
+    /// Closes and deletes the journal.
+    fn remove(self) -> Result<(), SurveyError> {
+        let Journal { path, file } = self;
+        drop(file);
+        std::fs::remove_file(&path).map_err(|source| SurveyError::Journal { path, source })
+    }
 }

@@ -271,6 +271,7 @@ pub fn run_job(
         observers,
     )?;
     files.push("checkpoint.ron".into());
+    files.push("checkpoint.chain".into());
     files.push("samples.csv".into());
     write_ron_json(out, "posterior", &posterior, &mut files)?;
     let csv = std::fs::read_to_string(out.join("samples.csv"))

@@ -93,6 +93,15 @@ pub enum SampleError {
         /// The underlying error.
         source: std::io::Error,
     },
+    /// The chain file of a checkpoint could not be opened, read, cut or
+    /// appended to.
+    #[error("checkpoint chain file {path}: {source}")]
+    ChainFile {
+        /// The chain file.
+        path: PathBuf,
+        /// The underlying error.
+        source: std::io::Error,
+    },
     /// A checkpoint could not be encoded or decoded.
     #[error("checkpoint format: {0}")]
     Format(String),
