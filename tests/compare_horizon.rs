@@ -21,16 +21,8 @@ use rand_chacha::ChaCha8Rng;
 fn horizon_agrees_with_a_brute_force_scan() {
     let planets = near_two_to_one();
     let obs = observations(&planets, 40, 300.0, 11);
-    let (km, kv) = model(ModelKind::Keplerian, &planets, &obs);
-    let (dm, dv) = model(ModelKind::CoplanarEdgeOn, &planets, &obs);
-    let k = ModelAt {
-        model: &km,
-        values: &kv,
-    };
-    let d = ModelAt {
-        model: &dm,
-        values: &dv,
-    };
+    let pair = Pair::new(&planets, &obs);
+    let (k, d) = (pair.keplerian(), pair.dynamical());
     // Threshold: twice the largest difference over the data span, so the
     // crossing lies after the data.
     let s = compare_statistics(&k, &d, &GridSettings::default()).unwrap();
@@ -84,16 +76,8 @@ fn horizon_agrees_with_a_brute_force_scan() {
 fn non_interacting_pair_has_a_late_or_no_horizon() {
     let planets = far_apart();
     let obs = observations(&planets, 40, 600.0, 12);
-    let (km, kv) = model(ModelKind::Keplerian, &planets, &obs);
-    let (dm, dv) = model(ModelKind::CoplanarEdgeOn, &planets, &obs);
-    let k = ModelAt {
-        model: &km,
-        values: &kv,
-    };
-    let d = ModelAt {
-        model: &dm,
-        values: &dv,
-    };
+    let pair = Pair::new(&planets, &obs);
+    let (k, d) = (pair.keplerian(), pair.dynamical());
     let h = divergence_horizon(&k, &d, &HorizonSettings::default()).unwrap();
     println!("ratio 7, K = 1 m/s: {}", h.outcome.describe());
     match h.outcome {

@@ -17,19 +17,12 @@ use compare_support::*;
 fn report_round_trips_and_reads() {
     let planets = near_two_to_one();
     let obs = observations(&planets, 60, 1200.0, 21);
-    let (km, kv) = model(ModelKind::Keplerian, &planets, &obs);
-    let (dm, dv) = model(ModelKind::CoplanarEdgeOn, &planets, &obs);
-    let k = ModelAt {
-        model: &km,
-        values: &kv,
-    };
-    let d = ModelAt {
-        model: &dm,
-        values: &dv,
-    };
+    let pair = Pair::new(&planets, &obs);
+    let Pair { km, kv, dm, dv } = &pair;
+    let (k, d) = (pair.keplerian(), pair.dynamical());
     let pair = summarise_pair(&pair_history(true, 2.0), 0, 1, &SummarySettings::default()).unwrap();
     let samples = vec![(kv.clone(), dv.clone()); 3];
-    let post = horizon_over_samples(&km, &dm, &samples, &HorizonSettings::default()).unwrap();
+    let post = horizon_over_samples(km, dm, &samples, &HorizonSettings::default()).unwrap();
     let settings = ReportSettings {
         series_points: 500,
         ..ReportSettings::default()

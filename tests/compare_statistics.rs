@@ -10,7 +10,6 @@ mod compare_support;
 use apsidal::compare::statistics::{
     CompareError, GridSettings, ModelAt, compare_statistics, velocity_difference,
 };
-use apsidal::fit::models::ModelKind;
 use compare_support::*;
 use std::f64::consts::TAU;
 
@@ -18,16 +17,8 @@ use std::f64::consts::TAU;
 fn statistics_of_an_interacting_pair() {
     let planets = near_two_to_one();
     let obs = observations(&planets, 80, 1200.0, 3);
-    let (km, kv) = model(ModelKind::Keplerian, &planets, &obs);
-    let (dm, dv) = model(ModelKind::CoplanarEdgeOn, &planets, &obs);
-    let k = ModelAt {
-        model: &km,
-        values: &kv,
-    };
-    let d = ModelAt {
-        model: &dm,
-        values: &dv,
-    };
+    let pair = Pair::new(&planets, &obs);
+    let (k, d) = (pair.keplerian(), pair.dynamical());
     let s = compare_statistics(&k, &d, &GridSettings::default()).unwrap();
 
     // ln L, χ², BIC, AICc recomputed from residuals (jitters are zero).
@@ -111,16 +102,8 @@ fn statistics_of_an_interacting_pair() {
 fn small_planets_far_apart_give_a_small_difference() {
     let planets = far_apart();
     let obs = observations(&planets, 60, 800.0, 5);
-    let (km, kv) = model(ModelKind::Keplerian, &planets, &obs);
-    let (dm, dv) = model(ModelKind::CoplanarEdgeOn, &planets, &obs);
-    let k = ModelAt {
-        model: &km,
-        values: &kv,
-    };
-    let d = ModelAt {
-        model: &dm,
-        values: &dv,
-    };
+    let pair = Pair::new(&planets, &obs);
+    let (k, d) = (pair.keplerian(), pair.dynamical());
     let s = compare_statistics(&k, &d, &GridSettings::default()).unwrap();
     println!(
         "far apart: ΔBIC = {:.4}, max|Δv| = {:.5} m/s",
@@ -136,16 +119,9 @@ fn mismatched_inputs_are_refused() {
     let planets = near_two_to_one();
     let obs = observations(&planets, 30, 600.0, 1);
     let other = observations(&planets, 31, 600.0, 2);
-    let (km, kv) = model(ModelKind::Keplerian, &planets, &obs);
-    let (dm, dv) = model(ModelKind::CoplanarEdgeOn, &planets, &other);
-    let k = ModelAt {
-        model: &km,
-        values: &kv,
-    };
-    let d = ModelAt {
-        model: &dm,
-        values: &dv,
-    };
+    let pair = Pair::over(&planets, &obs, &other);
+    let Pair { km, kv, .. } = &pair;
+    let (k, d) = (pair.keplerian(), pair.dynamical());
     assert!(matches!(
         compare_statistics(&k, &d, &GridSettings::default()),
         Err(CompareError::DifferentData(_))
@@ -155,7 +131,7 @@ fn mismatched_inputs_are_refused() {
         Err(CompareError::WrongKinds(..))
     ));
     let short = ModelAt {
-        model: &km,
+        model: km,
         values: &kv[1..],
     };
     assert!(matches!(

@@ -325,7 +325,7 @@ fn model_statistics(
         chi_square: m.chi_square(at.values),
         ln_likelihood: ln_l,
         bic: bic(ln_l, k, n),
-        aicc: a.is_finite().then_some(a),
+        aicc: a,
         residual_rms,
     })
 }

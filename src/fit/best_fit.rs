@@ -150,8 +150,8 @@ pub struct FitResult {
     pub n_points: usize,
     /// BIC = k ln n − 2 ln L.
     pub bic: f64,
-    /// AICc.
-    pub aicc: f64,
+    /// AICc (Hurvich & Tsai 1989); `None` when undefined (n ≤ k + 1).
+    pub aicc: Option<f64>,
     /// Whether the last least-squares block reported convergence and the
     /// rounds settled below the tolerance.
     pub converged: bool,

@@ -70,14 +70,14 @@ pub fn bic(ln_l: f64, n_params: usize, n_points: usize) -> f64 {
 
 /// Akaike information criterion with the small-sample correction,
 /// AICc = 2k − 2 ln L + 2k(k+1)/(n − k − 1) (Hurvich & Tsai 1989);
-/// infinite when n ≤ k + 1.
-pub fn aicc(ln_l: f64, n_params: usize, n_points: usize) -> f64 {
+/// `None` (undefined) when n ≤ k + 1 or ln L is not finite.
+pub fn aicc(ln_l: f64, n_params: usize, n_points: usize) -> Option<f64> {
     let k = n_params as f64;
     let n = n_points as f64;
     if n <= k + 1.0 {
-        return f64::INFINITY;
+        return None;
     }
-    2.0 * k - 2.0 * ln_l + 2.0 * k * (k + 1.0) / (n - k - 1.0)
+    Some(2.0 * k - 2.0 * ln_l + 2.0 * k * (k + 1.0) / (n - k - 1.0)).filter(|a| a.is_finite())
 }
 
 #[cfg(test)]

@@ -3,6 +3,7 @@
 #![allow(dead_code)]
 
 use apsidal::compare::resonance::{ElementHistory, PlanetSeries};
+use apsidal::compare::statistics::ModelAt;
 use apsidal::fit::models::{
     ModelKind, Observations, PlanetGuess, RvModel, TrendKind, default_parameters,
 };
@@ -133,5 +134,44 @@ pub fn pair_history(librating: bool, ratio: f64) -> ElementHistory {
     ElementHistory {
         times_d: t.clone(),
         planets: vec![planet(n1, l1, w1), planet(n2, l2, w2)],
+    }
+}
+
+/// The Keplerian and the N-body edge-on model over the same data, each at
+/// the guesses ([`model`]).
+pub struct Pair {
+    pub km: RvModel,
+    pub kv: Vec<f64>,
+    pub dm: RvModel,
+    pub dv: Vec<f64>,
+}
+
+impl Pair {
+    /// Both models over `obs`.
+    pub fn new(planets: &[PlanetGuess], obs: &Observations) -> Self {
+        Self::over(planets, obs, obs)
+    }
+
+    /// The Keplerian model over `kep_obs`, the dynamical over `dyn_obs`.
+    pub fn over(planets: &[PlanetGuess], kep_obs: &Observations, dyn_obs: &Observations) -> Self {
+        let (km, kv) = model(ModelKind::Keplerian, planets, kep_obs);
+        let (dm, dv) = model(ModelKind::CoplanarEdgeOn, planets, dyn_obs);
+        Pair { km, kv, dm, dv }
+    }
+
+    /// The Keplerian model at its values.
+    pub fn keplerian(&self) -> ModelAt<'_> {
+        ModelAt {
+            model: &self.km,
+            values: &self.kv,
+        }
+    }
+
+    /// The dynamical model at its values.
+    pub fn dynamical(&self) -> ModelAt<'_> {
+        ModelAt {
+            model: &self.dm,
+            values: &self.dv,
+        }
     }
 }
