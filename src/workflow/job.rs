@@ -464,11 +464,11 @@ pub fn job_summary(r: &JobReport) -> String {
             ", shorter than 50 τ (a demo-length run)"
         }
     );
-    for i in p
-        .intervals
-        .iter()
-        .filter(|i| i.name.ends_with("mass_jupiter") || i.name == "sin_i")
-    {
+    for i in p.intervals.iter().filter(|i| {
+        i.name.ends_with("mass_jupiter")
+            || i.name == "sin_i"
+            || i.name.ends_with("mutual_inclination_deg")
+    }) {
         s += &format!(
             "  {:<28} {:.4} (+{:.4} / −{:.4})\n",
             i.name,
@@ -476,6 +476,9 @@ pub fn job_summary(r: &JobReport) -> String {
             i.upper_68 - i.median,
             i.median - i.lower_68
         );
+    }
+    if matches!(p.kind, ModelKind::CoplanarEdgeOn | ModelKind::CoplanarSinI) {
+        s += "  mutual inclination           0 (fixed by the coplanar model; the ThreeDimensional model frees i and ΔΩ of each planet)\n";
     }
     if let Some(a) = &r.assessment {
         let dec = &a.comparison.decision;
