@@ -8,6 +8,10 @@
 //! CPU time of the benchmarking thread, as in benches/nbody_wh.rs (the
 //! build machine is shared).
 
+#[path = "support/cpu.rs"]
+mod cpu;
+use cpu::CpuTime;
+
 use std::f64::consts::FRAC_PI_2;
 use std::hint::black_box;
 use std::time::Duration;
@@ -17,78 +21,9 @@ use apsidal::nbody::variational::{InitialFrame, Variational, VariationalIntegrat
 use apsidal::nbody::wisdom_holman::{DriftKernel, WhSettings, WisdomHolman};
 use apsidal::nbody::{Integrator, Snapshot, System};
 use apsidal::stability::megno::{MegnoSettings, megno_run};
-use criterion::measurement::{Measurement, ValueFormatter};
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 
 const STEPS: u64 = 1000;
-
-/// CPU time of the current thread in ns (see the module docs).
-struct CpuTime;
-
-fn cpu_ns() -> u64 {
-    static START: std::sync::OnceLock<std::time::Instant> = std::sync::OnceLock::new();
-    std::fs::read_to_string("/proc/thread-self/schedstat")
-        .ok()
-        .and_then(|s| s.split_whitespace().next().and_then(|v| v.parse().ok()))
-        .unwrap_or_else(|| {
-            START
-                .get_or_init(std::time::Instant::now)
-                .elapsed()
-                .as_nanos() as u64
-        })
-}
-
-impl Measurement for CpuTime {
-    type Intermediate = u64;
-    type Value = u64;
-    fn start(&self) -> u64 {
-        cpu_ns()
-    }
-    fn end(&self, i: u64) -> u64 {
-        cpu_ns().saturating_sub(i)
-    }
-    fn add(&self, a: &u64, b: &u64) -> u64 {
-        a + b
-    }
-    fn zero(&self) -> u64 {
-        0
-    }
-    fn to_f64(&self, v: &u64) -> f64 {
-        *v as f64
-    }
-    fn formatter(&self) -> &dyn ValueFormatter {
-        &CpuFormatter
-    }
-}
-
-struct CpuFormatter;
-
-impl ValueFormatter for CpuFormatter {
-    fn scale_values(&self, ns: f64, values: &mut [f64]) -> &'static str {
-        let (factor, unit) = if ns < 1e3 {
-            (1.0, "ns cpu")
-        } else if ns < 1e6 {
-            (1e-3, "µs cpu")
-        } else {
-            (1e-6, "ms cpu")
-        };
-        values.iter_mut().for_each(|v| *v *= factor);
-        unit
-    }
-    fn scale_throughputs(&self, _typical: f64, t: &Throughput, values: &mut [f64]) -> &'static str {
-        // Nanoseconds of CPU per element (per step); criterion prints the
-        // bounds of this column in reverse order.
-        let n = match *t {
-            Throughput::Elements(n) | Throughput::Bytes(n) | Throughput::BytesDecimal(n) => n,
-            Throughput::Bits(n) => n,
-        } as f64;
-        values.iter_mut().for_each(|v| *v /= n);
-        "ns cpu per element"
-    }
-    fn scale_for_machines(&self, _values: &mut [f64]) -> &'static str {
-        "ns"
-    }
-}
 
 /// A star with `n` planets at periods 10·2^k d (invented, widely spaced).
 /// The two giants of benches/nbody_wh.rs (masses invented for K ≈ 40 m/s),

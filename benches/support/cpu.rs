@@ -1,5 +1,11 @@
-//! Process CPU time beside wall time for the 1- and 2-thread benches
-//! (benches/fit.rs, benches/survey.rs).
+//! CPU-time measurement for the benches: a criterion `Measurement` of the
+//! benchmarking thread's CPU time (benches/nbody_wh.rs, stability.rs) and
+//! process CPU time beside wall time for the 1- and 2-thread benches
+//! (benches/fit.rs, survey.rs). Each bench uses part of it.
+#![allow(dead_code)]
+
+use criterion::Throughput;
+use criterion::measurement::{Measurement, ValueFormatter};
 
 /// CPU time (user + system, s) of the whole process so far, all threads,
 /// from /proc/self/stat (fields 14 and 15, in clock ticks of 1/100 s:
@@ -46,4 +52,75 @@ pub fn cpu_report(
         1e3 * cpu / n,
         cpu / wall
     );
+}
+
+/// Criterion measurement: CPU time of the benchmarking thread in ns
+/// (Linux `/proc/thread-self/schedstat`; wall time where unreadable), so
+/// other jobs on a shared machine inflate the figures less than wall time.
+pub struct CpuTime;
+
+fn cpu_ns() -> u64 {
+    static START: std::sync::OnceLock<std::time::Instant> = std::sync::OnceLock::new();
+    std::fs::read_to_string("/proc/thread-self/schedstat")
+        .ok()
+        .and_then(|s| s.split_whitespace().next().and_then(|v| v.parse().ok()))
+        .unwrap_or_else(|| {
+            START
+                .get_or_init(std::time::Instant::now)
+                .elapsed()
+                .as_nanos() as u64
+        })
+}
+
+impl Measurement for CpuTime {
+    type Intermediate = u64;
+    type Value = u64;
+    fn start(&self) -> u64 {
+        cpu_ns()
+    }
+    fn end(&self, i: u64) -> u64 {
+        cpu_ns().saturating_sub(i)
+    }
+    fn add(&self, a: &u64, b: &u64) -> u64 {
+        a + b
+    }
+    fn zero(&self) -> u64 {
+        0
+    }
+    fn to_f64(&self, v: &u64) -> f64 {
+        *v as f64
+    }
+    fn formatter(&self) -> &dyn ValueFormatter {
+        &CpuFormatter
+    }
+}
+
+/// Units of [`CpuTime`] for criterion's report.
+pub struct CpuFormatter;
+
+impl ValueFormatter for CpuFormatter {
+    fn scale_values(&self, ns: f64, values: &mut [f64]) -> &'static str {
+        let (factor, unit) = if ns < 1e3 {
+            (1.0, "ns cpu")
+        } else if ns < 1e6 {
+            (1e-3, "µs cpu")
+        } else {
+            (1e-6, "ms cpu")
+        };
+        values.iter_mut().for_each(|v| *v *= factor);
+        unit
+    }
+    fn scale_throughputs(&self, _typical: f64, t: &Throughput, values: &mut [f64]) -> &'static str {
+        // Nanoseconds of CPU per element (per step); criterion prints the
+        // bounds of this column in reverse order.
+        let n = match *t {
+            Throughput::Elements(n) | Throughput::Bytes(n) | Throughput::BytesDecimal(n) => n,
+            Throughput::Bits(n) => n,
+        } as f64;
+        values.iter_mut().for_each(|v| *v /= n);
+        "ns cpu per element"
+    }
+    fn scale_for_machines(&self, _values: &mut [f64]) -> &'static str {
+        "ns"
+    }
 }
