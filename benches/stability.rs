@@ -68,13 +68,17 @@ fn wh_step_variational(c: &mut Criterion<CpuTime>) {
     g.throughput(Throughput::Elements(STEPS));
     for n in [2, 3] {
         let sys = system(n);
-        for (ntan, kernel) in [0usize, 1, 6 * n]
-            .into_iter()
-            .flat_map(|t| [(t, DriftKernel::Scalar), (t, DriftKernel::Interleaved)])
-        {
+        for (ntan, kernel) in [0usize, 1, 6 * n].into_iter().flat_map(|t| {
+            [
+                (t, DriftKernel::Universal),
+                (t, DriftKernel::Scalar),
+                (t, DriftKernel::Interleaved),
+            ]
+        }) {
             let mut wh = WisdomHolman::new(&sys, settings()).unwrap();
             wh.set_drift_kernel(kernel);
             let kname = match kernel {
+                DriftKernel::Universal => "universal",
                 DriftKernel::Scalar => "scalar",
                 DriftKernel::Interleaved => "interleaved",
             };

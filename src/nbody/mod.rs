@@ -4,6 +4,7 @@
 //! body 0 the star (DESIGN §3 frame: +Z away from the observer). This layer
 //! knows nothing of RV data; [`crate::model`] turns its states into RVs.
 
+mod elliptic;
 pub mod events;
 pub mod forces;
 pub mod gauss_radau;

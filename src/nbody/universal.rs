@@ -25,6 +25,8 @@ use std::f64::consts::TAU;
 
 use nalgebra::Vector3;
 
+use super::elliptic::{BoundOrbit, f_and_g_elliptic};
+
 /// Stumpff functions c₀(x)..c₃(x) (Stumpff 1959; Danby 1988 §6.9):
 /// c₀ = cos √x, c₁ = sin √x / √x, c₂ = (1 − cos √x)/x,
 /// c₃ = (√x − sin √x)/x^{3/2}, continued analytically to x ≤ 0
@@ -164,7 +166,8 @@ pub struct FandG {
     /// Universal anomaly s solving the universal Kepler equation (the
     /// elliptic turns removed from Δt first), in d·au⁻¹ units as in Danby.
     pub s: f64,
-    /// Iterations of the universal Kepler equation used.
+    /// Iterations used: of the universal Kepler equation, or (for a bound
+    /// orbit solved in ΔE by [`super::elliptic`]) sine/cosine evaluations.
     pub iterations: usize,
     /// G₀(s)..G₃(s) at the solution (Gₖ = sᵏ cₖ(β s²)), for the tangent
     /// map ([`drift_tangent_from`]).
@@ -190,6 +193,12 @@ pub const MAX_DRIFT_ITERATIONS: usize = 200;
 /// converge in one or two iterations); it is ignored unless finite and of
 /// the sign of `dt`. Full elliptic turns are removed from `dt` first
 /// (the state is periodic), so any |dt| is accepted.
+///
+/// Bound orbits away from the parabola are solved in the change of
+/// eccentric anomaly by [`super::elliptic`] (one or two sine/cosine
+/// evaluations); every other case, and any case that solver declines, by
+/// the universal-variable iteration above. Both give the same f and g to
+/// rounding (tested).
 #[inline]
 pub fn f_and_g(
     pos: &Vector3<f64>,
@@ -198,10 +207,32 @@ pub fn f_and_g(
     dt: f64,
     guess: Option<f64>,
 ) -> Result<FandG, DriftError> {
-    let mut st = match solve_setup(pos, vel, mu, dt, guess) {
+    f_and_g_with(pos, vel, mu, dt, guess, true)
+}
+
+/// [`f_and_g`] with the elliptic solver switched on or off (`false`: the
+/// universal-variable iteration for every orbit, as a reference in tests
+/// and benches).
+#[doc(hidden)]
+#[inline]
+pub fn f_and_g_with(
+    pos: &Vector3<f64>,
+    vel: &Vector3<f64>,
+    mu: f64,
+    dt: f64,
+    guess: Option<f64>,
+    elliptic: bool,
+) -> Result<FandG, DriftError> {
+    let mut st = match solve_setup(pos, vel, mu, dt) {
         Setup::Done(r) => return r,
         Setup::Iterate(st) => st,
     };
+    if elliptic && st.bound {
+        if let [Some(fg)] = f_and_g_elliptic(&[st.orbit()]) {
+            return Ok(fg);
+        }
+    }
+    universal_start(&mut st, guess);
     for iteration in 0..MAX_DRIFT_ITERATIONS {
         if let Some(r) = solve_iteration(&mut st, iteration) {
             return r;
@@ -233,12 +264,34 @@ pub fn f_and_g_lanes<const L: usize>(
     let mut st = [Solve::default(); L];
     let mut live = [false; L];
     for l in 0..L {
-        match solve_setup(&pos[l], &vel[l], mu[l], dt, None) {
+        match solve_setup(&pos[l], &vel[l], mu[l], dt) {
             Setup::Done(r) => out[l] = r,
             Setup::Iterate(s) => {
                 st[l] = s;
                 live[l] = true;
             }
+        }
+    }
+    // Bound orbits: the ΔE solver, all lanes together.
+    let orbits: [BoundOrbit; L] = std::array::from_fn(|l| {
+        if live[l] && st[l].bound {
+            st[l].orbit()
+        } else {
+            BoundOrbit::FILLER
+        }
+    });
+    let elliptic = f_and_g_elliptic(&orbits);
+    for l in 0..L {
+        if live[l] && st[l].bound {
+            if let Some(fg) = elliptic[l] {
+                out[l] = Ok(fg);
+                live[l] = false;
+            }
+        }
+    }
+    for l in 0..L {
+        if live[l] {
+            universal_start(&mut st[l], None);
         }
     }
     for iteration in 0..MAX_DRIFT_ITERATIONS {
@@ -271,9 +324,28 @@ struct Solve {
     zeta0: f64,
     mu: f64,
     dt: f64,
+    /// v₀² (for the starting value).
+    v2: f64,
+    /// A bound orbit away from the parabola (β > 0, β not recomputed in
+    /// compensated arithmetic): the ΔE solver may take it.
+    bound: bool,
     s: f64,
     lo: f64,
     hi: f64,
+}
+
+impl Solve {
+    fn orbit(&self) -> BoundOrbit {
+        BoundOrbit {
+            r0: self.r0,
+            inv_r0: self.inv_r0,
+            eta0: self.eta0,
+            beta: self.beta,
+            zeta0: self.zeta0,
+            mu: self.mu,
+            dt: self.dt,
+        }
+    }
 }
 
 /// What [`solve_setup`] found: an answer without iterating, or a solve to
@@ -283,16 +355,11 @@ enum Setup {
     Iterate(Solve),
 }
 
-/// Checks, β, the removal of whole turns, the bracket and the starting
-/// value (everything of [`f_and_g`] before its iterations).
+/// Checks, β and the removal of whole turns (everything of [`f_and_g`]
+/// before either solver; the universal one then needs
+/// [`universal_start`]).
 #[inline(always)]
-fn solve_setup(
-    pos: &Vector3<f64>,
-    vel: &Vector3<f64>,
-    mu: f64,
-    dt: f64,
-    guess: Option<f64>,
-) -> Setup {
+fn solve_setup(pos: &Vector3<f64>, vel: &Vector3<f64>, mu: f64, dt: f64) -> Setup {
     let r0 = pos.norm();
     let v2 = vel.norm_squared();
     if !(mu > 0.0
@@ -321,7 +388,8 @@ fn solve_setup(
     let eta0 = pos.dot(vel);
     let inv_r0 = 1.0 / r0;
     let mut beta = 2.0 * mu * inv_r0 - v2;
-    if beta.abs() < 1e-2 * v2 {
+    let near_parabolic = beta.abs() < 1e-2 * v2;
+    if near_parabolic {
         // Near-parabolic: 2μ/r₀ and v₀² nearly cancel; recompute β with
         // error-free products and sums (Dekker 1971; Ogita, Rump & Oishi
         // 2005) so that β is accurate to rounding for the given floats.
@@ -347,6 +415,36 @@ fn solve_setup(
             ));
         }
     }
+    Setup::Iterate(Solve {
+        r0,
+        inv_r0,
+        eta0,
+        beta,
+        zeta0,
+        mu,
+        dt,
+        v2,
+        bound: beta > 0.0 && !near_parabolic,
+        s: 0.0,
+        lo: 0.0,
+        hi: 0.0,
+    })
+}
+
+/// The bracket and the starting value of the universal iteration (`guess`
+/// as in [`f_and_g`]).
+#[inline(always)]
+fn universal_start(st: &mut Solve, guess: Option<f64>) {
+    let Solve {
+        r0,
+        inv_r0,
+        eta0,
+        beta,
+        mu,
+        dt,
+        v2,
+        ..
+    } = *st;
     // Bracket [lo, hi] of the root, which is unique since f′ = r > 0:
     // f(0) = −dt.
     let (lo, hi) = if dt > 0.0 {
@@ -397,18 +495,7 @@ fn solve_setup(
             }
         }
     };
-    Setup::Iterate(Solve {
-        r0,
-        inv_r0,
-        eta0,
-        beta,
-        zeta0,
-        mu,
-        dt,
-        s,
-        lo,
-        hi,
-    })
+    (st.s, st.lo, st.hi) = (s, lo, hi);
 }
 
 /// One iteration (number `iteration`, from 0) of the universal Kepler
@@ -750,6 +837,13 @@ pub struct DriftTangent {
 }
 
 impl DriftTangent {
+    /// The drifted state (position au, velocity au/day) the map was built
+    /// at.
+    #[inline]
+    pub fn state(&self) -> (Vector3<f64>, Vector3<f64>) {
+        (self.rv, self.vv)
+    }
+
     /// Map one tangent vector (δr₀ in au, δv₀ in au/day) in place to its
     /// value after the drift.
     #[inline]

@@ -95,7 +95,7 @@ use super::integrator::Integrator;
 use super::jacobi;
 use super::system::{Snapshot, System};
 use super::universal::{
-    DriftError, FandG, drift_tangent_from, drift_tangent_map, f_and_g_lanes, kepler_drift,
+    DriftError, FandG, drift_tangent_from, f_and_g_lanes, f_and_g_with, kepler_drift,
 };
 use super::variational::{Tangent, Variational};
 use crate::kepler::state_to_elements;
@@ -174,20 +174,24 @@ struct Bodies {
 }
 
 /// How the Kepler drifts of the planets in one Wisdom–Holman drift are
-/// solved. Both give bitwise the same state (the lanes run the scalar
-/// solver's operations; tested), so this only changes the speed. The
-/// interleaved solve is 1.2× faster for the solver alone but measured no
-/// faster within a whole step (BENCHMARKS.md, N-body), so the simpler
-/// scalar path is the default.
+/// solved. `Scalar` and `Interleaved` give bitwise the same state (the
+/// lanes run the scalar solver's operations; tested), so they only change
+/// the speed; `Universal` differs from them at rounding level. The
+/// interleaved solve measured no faster within a whole step
+/// (BENCHMARKS.md, N-body), so the simpler scalar path is the default.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum DriftKernel {
     /// Up to four planets at a time by
     /// [`super::universal::f_and_g_lanes`], their iterations interleaved.
     Interleaved,
-    /// One planet after the other by [`super::universal::f_and_g`] (the
-    /// default).
+    /// One planet after the other by [`super::universal::f_and_g`]: bound
+    /// orbits by Kepler's equation in ΔE (`nbody::elliptic`), others by
+    /// universal variables (the default).
     #[default]
     Scalar,
+    /// One planet after the other, every orbit by the universal-variable
+    /// iteration alone: the reference the ΔE solver is measured against.
+    Universal,
 }
 
 /// Work buffers of a kick.
@@ -550,32 +554,38 @@ impl WisdomHolman {
         self.check_events(t_mid)
     }
 
-    /// Look for events at the kick positions of the last step.
+    /// Look for events at the kick positions of the last step. The tests
+    /// compare squared distances (no square root or division on the path
+    /// of every step); the distances reported are taken only when an event
+    /// fires.
     fn check_events(&mut self, t: f64) -> Result<(), NbodyError> {
         let n = self.b.masses.len();
         let pos = &self.w.pos;
         let es = self.settings;
         for k in 1..n {
-            let d0 = (pos[k] - pos[0]).norm();
             if es.star_collisions {
+                let d0_2 = (pos[k] - pos[0]).norm_squared();
                 let rsum = self.b.radii[0] + self.b.radii[k];
-                let on = d0 < rsum;
+                let on = d0_2 < rsum * rsum;
                 if let Some(ev) = edge(&mut self.active[k], on, || Event::StarCollision {
                     t,
                     body: k,
-                    distance: d0,
+                    distance: d0_2.sqrt(),
                 }) {
                     record(&mut self.events, es.stop_on_event, ev)?;
                 }
             }
             if let Some(dmax) = es.max_distance {
-                let r = pos[k].norm();
-                let energy = 0.5 * self.jv[k].norm_squared() - self.b.mu[k] / self.jr[k].norm();
-                let on = r > dmax || energy >= 0.0;
+                let r2 = pos[k].norm_squared();
+                // Unbound Jacobi orbit: ½v′² − μ/r′ ≥ 0 ⟺ (½v′²)² r′² ≥ μ².
+                let half_v2 = 0.5 * self.jv[k].norm_squared();
+                let mu = self.b.mu[k];
+                let unbound = half_v2 * half_v2 * self.jr[k].norm_squared() >= mu * mu;
+                let on = dmax < 0.0 || r2 > dmax * dmax || unbound;
                 if let Some(ev) = edge(&mut self.active[n + k], on, || Event::Ejection {
                     t,
                     body: k,
-                    distance: r,
+                    distance: r2.sqrt(),
                 }) {
                     record(&mut self.events, es.stop_on_event, ev)?;
                 }
@@ -587,14 +597,15 @@ impl WisdomHolman {
                 for j in (i + 1)..n {
                     let rj = (pos[j] - pos[0]).norm();
                     let rh = self.b.hill[i * n + j] * 0.5 * (ri + rj);
-                    let d = (pos[j] - pos[i]).norm();
-                    let on = d < nh * rh;
+                    let d2 = (pos[j] - pos[i]).norm_squared();
+                    let lim = nh * rh;
+                    let on = d2 < lim * lim && lim > 0.0;
                     if let Some(ev) = edge(&mut self.active[2 * n + i * n + j], on, || {
                         Event::CloseEncounter {
                             t,
                             i,
                             j,
-                            hill_separation: d / rh,
+                            hill_separation: d2.sqrt() / rh,
                         }
                     }) {
                         record(&mut self.events, es.stop_on_event, ev)?;
@@ -673,11 +684,25 @@ fn drift_all(
     let com_v = jv[0];
     jr[0] += com_v * dt;
     let n = jr.len();
-    if b.kernel == DriftKernel::Scalar {
-        for k in 1..n {
-            kepler_drift(&mut jr[k], &mut jv[k], b.mu[k], dt, None).map_err(|e| (k, e))?;
+    match b.kernel {
+        DriftKernel::Scalar => {
+            for k in 1..n {
+                kepler_drift(&mut jr[k], &mut jv[k], b.mu[k], dt, None).map_err(|e| (k, e))?;
+            }
+            return Ok(());
         }
-        return Ok(());
+        DriftKernel::Universal => {
+            for k in 1..n {
+                let fg =
+                    f_and_g_with(&jr[k], &jv[k], b.mu[k], dt, None, false).map_err(|e| (k, e))?;
+                (jr[k], jv[k]) = (
+                    jr[k] * fg.f + jv[k] * fg.g,
+                    jr[k] * fg.fdot + jv[k] * fg.gdot,
+                );
+            }
+            return Ok(());
+        }
+        DriftKernel::Interleaved => {}
     }
     let mut k = 1;
     while k < n {
@@ -741,12 +766,16 @@ fn drift_tan(
     for (r, v) in tr.chunks_exact_mut(n).zip(tv.chunks_exact(n)) {
         r[0] += v[0] * dt;
     }
-    if b.kernel == DriftKernel::Scalar {
+    if b.kernel != DriftKernel::Interleaved {
+        let elliptic = b.kernel == DriftKernel::Scalar;
         for k in 1..n {
-            let map = drift_tangent_map(&mut jr[k], &mut jv[k], b.mu[k], dt).map_err(|e| (k, e))?;
+            let fg =
+                f_and_g_with(&jr[k], &jv[k], b.mu[k], dt, None, elliptic).map_err(|e| (k, e))?;
+            let map = drift_tangent_from(&jr[k], &jv[k], b.mu[k], dt, &fg).map_err(|e| (k, e))?;
             for (r, v) in tr.chunks_exact_mut(n).zip(tv.chunks_exact_mut(n)) {
                 map.apply(&mut r[k], &mut v[k]);
             }
+            (jr[k], jv[k]) = (map.state().0, map.state().1);
         }
         return Ok(());
     }
