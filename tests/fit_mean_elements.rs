@@ -36,12 +36,13 @@ const GR: SpanIntegrator = SpanIntegrator::GaussRadau { tolerance: 1e-9 };
 
 #[test]
 fn weak_planets_have_their_osculating_elements_as_means() {
-    // K = 1 mm/s: planet-to-star mass ratios ≈ 1e-8, so the interaction
-    // moves the elements by ≈ 1e-7 relative or less (two-body
-    // limit): P, K, e, ω⋆ and λ must come back as injected.
+    // K = 0.01 mm/s: planet-to-star mass ratios ≈ 2e-10, 3e-7 of the
+    // injected giants', whose osculating P and e vary by ≈ 1.5 % and 0.02
+    // over the span: here by ≈ 1e-8 (two-body limit), so P, K, e, ω⋆ and
+    // λ must come back as injected.
     let mut params = inj::true_params();
     for p in &mut params.planets {
-        p.k = 0.001;
+        p.k = 1e-5;
     }
     let sys = system_of(&params);
     let mean = mean_orbits(
@@ -60,7 +61,7 @@ fn weak_planets_have_their_osculating_elements_as_means() {
             "P {}",
             m.period_d
         );
-        assert!((m.semi_amplitude_m_s / 0.001 - 1.0).abs() < 1e-6);
+        assert!((m.semi_amplitude_m_s / 1e-5 - 1.0).abs() < 1e-6);
         assert!((m.e - p.e).abs() < 1e-6, "e {}", m.e);
         assert!(angle_diff(m.omega_star, p.omega_star_deg.to_radians()) < 1e-5);
         assert!(angle_diff(m.mean_longitude, p.mean_longitude_deg().to_radians()) < 1e-5);
