@@ -861,7 +861,7 @@ fn line_through(t: &[f64], y: &[f64], t0: f64) -> (f64, f64, f64) {
 /// **What a Keplerian fit measures.** To first order in e a Keplerian RV
 /// signal is v ≈ K [cos(M + ω⋆) + e cos(2(M + ω⋆) − ω⋆)] (the expansion of
 /// the equation of the centre, ν ≈ M + 2e sin M; e.g. Murray & Dermott
-/// 1999, *Solar System Dynamics*, eq. 2.88, from memory). In an interacting
+/// 1999, *Solar System Dynamics*, §2.5, from memory). In an interacting
 /// system, with Jacobi osculating elements, the star's velocity is exactly
 /// the sum of such terms with elements that vary in time (DESIGN §3). A
 /// Keplerian with fixed P, K, e, ω⋆ fitted by least squares to densely and
@@ -892,6 +892,19 @@ fn line_through(t: &[f64], y: &[f64], t0: f64) -> (f64, f64, f64) {
 /// statements; terms of order e² and the short-period and near-resonant
 /// wobbles of the phase (reported as [`MeanOrbit::phase_rms`]) are what a
 /// Keplerian cannot follow and leaves in its residuals.
+///
+/// **Where the mean elements are not what a Keplerian measures.** Near a
+/// first-order commensurability j:(j−1) the phase of each planet wobbles
+/// at the near-resonant frequency (j−1)n₁ − j n₂ (say), and that wobble
+/// puts sidebands on its fundamental at frequencies that coincide with
+/// harmonics of the other planet: at 2:1 the sideband n₁ + (2n₂ − n₁) of
+/// the inner planet is exactly the first harmonic 2n₂ of the outer one. A
+/// sum of Keplerians then gives that part of the inner planet's signal to
+/// the outer planet's eccentricity vector, which comes out displaced from
+/// its mean (tests/fit_dynamical_injection.rs measures this: −4σ in both
+/// components for the outer planet, while the periods, amplitudes and the
+/// inner planet's eccentricity vector agree with the mean elements). The
+/// size of the wobble is [`MeanOrbit::phase_rms`] (times K in m/s).
 ///
 /// **Unwrapping.** Each step of λ − Ω is predicted from the osculating
 /// mean motions (as [`crate::compare::resonance::mean_motion`] does), so
