@@ -6,6 +6,11 @@
 //!   parameters (automatic rule per call), with the old fixed step (the
 //!   automatic step at the optimum) and with the fit's accuracy-driven step
 //!   (`FitResult::wh_step`); the ratio old/new is the gain of the new rule;
+//! * the integration alone for the last of those rows (the Wisdom–Holman
+//!   runs of `DynamicalModel::star_rv` over the same epochs, system built
+//!   once): the ratio of the two is the cost of everything around the
+//!   integrator (parameter decoding, system construction, validation,
+//!   residuals, likelihood);
 //! * a batch of 64 dynamical parameter vectors near the optimum (Gaussian
 //!   scatter of 0.1 standard error per parameter, ChaCha20 seed 5)
 //!   evaluated with rayon in local pools of 1 and 2 threads, for the old
@@ -31,6 +36,11 @@ use apsidal::fit::models::{ModelKind, Observations, RvModel, TrendKind, default_
 use apsidal::fit::sample::{
     Ball, DEFAULT_STRETCH_SCALE, EnsembleSampler, LogTarget, gaussian_ball,
 };
+use apsidal::model::dynamical::{
+    DynamicalModel, DynamicalParams, DynamicalPlanet, DynamicalWorkspace, sample_star_vz,
+};
+use apsidal::nbody::wisdom_holman::{Corrector, WhSettings, WisdomHolman};
+use apsidal::nbody::{EventSettings, Snapshot};
 use criterion::{BatchSize, Criterion, Throughput, criterion_group, criterion_main};
 use rand::SeedableRng;
 use rand_chacha::ChaCha20Rng;
@@ -116,6 +126,68 @@ fn bench_fit(c: &mut Criterion) {
     g.bench_function("dynamical_wh_new_step", |b| {
         b.iter(|| black_box(dm_new.ln_likelihood(black_box(&dv))))
     });
+    // The integration alone, as `DynamicalModel::star_rv` runs it for the
+    // row above (same system, step and epochs; two resets and the two runs
+    // outwards from t_ref), with the system built once: the ratio of the
+    // row above to this one is the cost of everything around the
+    // integrator per evaluation.
+    {
+        let planets = dm.decode_planets(&dv).expect("planets");
+        let params = DynamicalParams {
+            star_mass: inj::STAR_MASS,
+            planets: planets
+                .iter()
+                .map(|p| DynamicalPlanet {
+                    period: p.period,
+                    k: p.semi_amplitude,
+                    e: p.eccentricity,
+                    omega_star: p.omega_star,
+                    mean_anomaly: p.mean_anomaly,
+                    inc: p.inclination,
+                    delta_node: p.node,
+                })
+                .collect(),
+            offsets: vec![0.0; 2],
+            trend: Default::default(),
+        };
+        let mut ws = DynamicalWorkspace::default();
+        DynamicalModel::new(inj::T_REF)
+            .build_system(&params, &mut ws)
+            .expect("system");
+        let sys = ws.system().clone();
+        let step = df.wh_step;
+        let mut wh = WisdomHolman::new(
+            &sys,
+            WhSettings {
+                step,
+                corrector: Corrector::Off,
+                events: EventSettings::default(),
+            },
+        )
+        .expect("wh");
+        let mut order: Vec<usize> = (0..obs.len()).collect();
+        order.sort_by(|&a, &b| obs.t[a].total_cmp(&obs.t[b]));
+        let split = order.partition_point(|&i| obs.t[i] < inj::T_REF);
+        let mut snap = Snapshot::zeros(sys.len(), inj::T_REF);
+        let mut out = vec![0.0; obs.len()];
+        g.bench_function("integrator_only_new_step", |b| {
+            b.iter(|| {
+                wh.reset(&sys, step).expect("reset");
+                sample_star_vz(&mut wh, &obs.t, &order[split..], &mut snap, &mut out)
+                    .expect("forward");
+                wh.reset(&sys, step).expect("reset");
+                sample_star_vz(
+                    &mut wh,
+                    &obs.t,
+                    order[..split].iter().rev(),
+                    &mut snap,
+                    &mut out,
+                )
+                .expect("backward");
+                black_box(&out);
+            })
+        });
+    }
     g.finish();
 
     // A batch of 64 vectors near the optimum, 1 and 2 threads.

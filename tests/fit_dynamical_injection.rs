@@ -12,17 +12,42 @@
 //! same osculating elements by up to 39 m/s (rms 11.5 m/s) over the
 //! baseline, so the interaction is strong.
 //!
-//! * Keplerian fit: K and the offsets are recovered within 3σ, but the
-//!   periods and the eccentricity vector are not, for a physical reason: a
-//!   Keplerian fit measures *mean* periods over the baseline, while the
-//!   truth is given as osculating Jacobi elements at t_ref; near 2:1 the
-//!   osculating period of b at t_ref (42.0 d) is far from its mean over
-//!   the data (the fit gives 41.746 ± 0.006 d, −42σ), and c's eccentricity
-//!   vector precesses over the baseline (√e cos ω⋆ −0.374 ± 0.023 against
-//!   −0.266, 4.7σ). The test asserts this discrepancy rather than hiding it:
-//!   a system weak enough for the Keplerian periods to agree with the
-//!   osculating ones to 3σ (relative 1e-4) would need planet-to-star mass
-//!   ratios far below those of giants.
+//! * Keplerian fit against the osculating elements at t_ref: K and the
+//!   offsets agree within 3σ, the periods and the eccentricity vector do
+//!   not (b.P 41.746 ± 0.006 d against 42.0, −42σ): a Keplerian fit
+//!   measures *mean* periods over the baseline, and near 2:1 the osculating
+//!   period at t_ref is far from them. This is asserted, not hidden.
+//! * Keplerian fit against the **baseline-mean elements** of the true
+//!   integration (`compare::history::mean_orbits`: the Gauss–Radau run of
+//!   the truth sampled every 0.25 d over T_REF ± 800 d; mean period of the
+//!   RV fundamental from the line through the unwrapped λ, ⟨K⟩, mean
+//!   eccentricity vector ⟨K e e^{iω⋆}⟩/⟨K⟩; the doc comment there gives
+//!   the reasoning and its sources): P, K and offsets of both planets and
+//!   b's eccentricity vector within 3σ. Measured (seed 20260) pulls: b.P
+//!   +1.94, b.K +0.70, b.√e cos ω⋆ −1.26, b.√e sin ω⋆ −0.79, c.P +1.54,
+//!   c.K +2.65, offsets −0.72, −1.14 (λ, not asserted: −0.30, −1.40).
+//!   Mean elements: b P 41.734 d (osculating 41.57–42.18 over the span),
+//!   e 0.132, ω⋆ precesses 5.9°; c P 87.622 d (86.15–88.29), e 0.090,
+//!   ω⋆ 4.6°.
+//! * **c's eccentricity vector is not c's mean one** (pulls −4.31, −4.15
+//!   on seed 20260, and √e sin ω⋆ biased the same way on seeds 1–4:
+//!   fitted −0.23…−0.27 against −0.119), and this is not noise: at 2:1 the
+//!   first harmonic of c (frequency 2n_c) is exactly the sideband
+//!   n_b + (2n_c − n_b) of b's fundamental phase-modulated by the
+//!   near-resonant wobble (phase rms about b's mean line 0.071 rad, i.e.
+//!   ≈ 2.5 m/s at 35 m/s, as large as K_c e_c ≈ 2 m/s), so a single
+//!   Keplerian per planet gives that part of b's signal to c's
+//!   eccentricity. What is true instead, and asserted: every fitted P, K,
+//!   e-vector and offset agrees within 3σ with the *best Keplerian
+//!   description of the noise-free truth* (the Keplerian least-squares fit
+//!   to the Gauss–Radau RVs every 0.5 d over the span: the value a
+//!   Keplerian fit converges to). That best Keplerian differs from the mean
+//!   elements by < 1.4σ in every P, K, λ and in b's e-vector, and by −1.8σ
+//!   and −3.8σ in c's √e cos ω⋆ and √e sin ω⋆: the mean elements are the
+//!   Keplerian's target except for c's eccentricity vector. Over seeds 1–4
+//!   (second test) the Keplerian pulls against the mean elements (32,
+//!   without c's e-vector) have mean +0.24, rms 1.14, and against the best
+//!   Keplerian (40) mean −0.01, rms 0.95; none beyond 3σ.
 //! * Dynamical fit (coplanar, free sin i, Wisdom–Holman default step) from
 //!   the Keplerian solution: P, K, e (as √e cos ω⋆, √e sin ω⋆) and offsets
 //!   within 3σ of the truth; ΔBIC = BIC_kep − BIC_dyn > 10.
@@ -42,13 +67,16 @@
 //! is the one to quote.
 //!
 //! Cost: ≈ 55 s for both tests run one after the other at a load average
-//! of ≈ 15 on 2 cores (the posterior run is 36 s of it).
+//! of ≈ 15 on 2 cores (the posterior run is 36 s of it); the mean elements
+//! and the best Keplerian of the truth add ≈ 0.3 s to each test.
 mod injection_support;
 
+use apsidal::compare::history::{MeanOrbit, SpanIntegrator, mean_orbits};
 use apsidal::fit::best_fit::{FitResult, FitSettings, fit_model};
 use apsidal::fit::models::{ModelKind, Observations, RvModel, TrendKind, default_parameters};
 use apsidal::model::dynamical::{DynamicalModel, DynamicalWorkspace};
 use apsidal::model::keplerian::keplerian_rv;
+use apsidal::nbody::EventSettings;
 use apsidal::workflow::posterior::{PosteriorSettings, sample_posterior};
 use injection_support as inj;
 
@@ -106,15 +134,87 @@ fn truth_of(name: &str) -> Option<f64> {
     (name == "sin_i").then_some(inj::SIN_I)
 }
 
-/// Print truth, fit, σ and pull of every parameter; return the pulls by name.
-fn pulls(label: &str, f: &FitResult) -> Vec<(String, f64)> {
+/// The baseline-mean elements of the injected system over the data span
+/// (T_REF ± 800 d, where `inj::synthetic` draws its epochs): the truth for
+/// a Keplerian fit (`compare::history::mean_orbits`, which explains the
+/// averaging). From the same Gauss–Radau run (ε = 1e-9, both ways from
+/// T_REF) that made the data, sampled every 0.25 d.
+fn mean_truth() -> Vec<MeanOrbit> {
+    let mut ws = DynamicalWorkspace::default();
+    DynamicalModel::new(inj::T_REF)
+        .build_system(&inj::true_params(), &mut ws)
+        .unwrap();
+    let half = 800.0;
+    mean_orbits(
+        ws.system(),
+        inj::T_REF - half,
+        inj::T_REF + half,
+        6401,
+        SpanIntegrator::GaussRadau { tolerance: 1e-9 },
+        EventSettings::default(),
+    )
+    .unwrap()
+}
+
+/// The Keplerian truth by name: P, K, eccentricity vector and mean
+/// longitude from the baseline-mean elements, offsets and jitters as
+/// injected.
+fn keplerian_truth_of(mean: &[MeanOrbit], name: &str) -> Option<f64> {
+    for (p, m) in inj::PLANETS.iter().zip(mean) {
+        let (sc, ss) = m.sqrt_basis();
+        let v = match name.strip_prefix(p.name).and_then(|r| r.strip_prefix('.')) {
+            Some("period") => m.period_d,
+            Some("semi_amplitude") => m.semi_amplitude_m_s,
+            Some("sqrt_e_cos_w") => sc,
+            Some("sqrt_e_sin_w") => ss,
+            Some("mean_longitude") => m.mean_longitude.to_degrees(),
+            _ => continue,
+        };
+        return Some(v);
+    }
+    truth_of(name)
+}
+
+/// The best single-Keplerian description of the noise-free truth: the
+/// Keplerian fit (from `start`) to the Gauss–Radau RVs, without noise,
+/// every 0.5 d over the data span (T_REF ± 800 d), with the instruments,
+/// offsets and quoted errors of `inj::synthetic`. It is the value a
+/// Keplerian fit of noisy data converges to (the least-squares "pseudo-true"
+/// parameters of a model that cannot describe the signal exactly).
+fn best_keplerian_of_truth(start: &FitResult) -> FitResult {
+    let n = 3201;
+    let t: Vec<f64> = (0..n)
+        .map(|i| inj::T_REF - 800.0 + 0.5 * i as f64)
+        .collect();
+    let inst: Vec<usize> = (0..n).map(|i| usize::from(i % 3 == 0)).collect();
+    let obs = Observations {
+        rv: inj::truth_rv(&t, &inst),
+        err: inst.iter().map(|&k| inj::ERRORS[k]).collect(),
+        t,
+        inst,
+        instruments: inj::INSTRUMENTS.iter().map(|s| s.to_string()).collect(),
+    };
+    let km = model_of(ModelKind::Keplerian, &obs);
+    let f = fit_model(&km, &[start_from(&km, start)], &FitSettings::default()).unwrap();
+    assert!(f.converged, "{}", f.status);
+    f
+}
+
+/// The value of parameter `name` in a fit.
+fn value(f: &FitResult, name: &str) -> Option<f64> {
+    f.names.iter().position(|n| n == name).map(|i| f.values[i])
+}
+
+/// Print truth, fit, σ and pull of every parameter against `truth`; return
+/// the pulls by name.
+fn pulls(label: &str, f: &FitResult, truth: &dyn Fn(&str) -> Option<f64>) -> Vec<(String, f64)> {
     println!(
         "{label}: lnL {:.2} chi2 {:.1} k {} BIC {:.2} converged {} rounds {} ({})",
         f.ln_likelihood, f.chi_square, f.n_free, f.bic, f.converged, f.rounds, f.status
     );
     let mut out = Vec::new();
     for ((n, &v), s) in f.names.iter().zip(&f.values).zip(&f.std_errors) {
-        let t = truth_of(n).unwrap();
+        let t = truth(n).unwrap();
         match s {
             Some(s) => {
                 let mut d = v - t;
@@ -135,6 +235,29 @@ fn pulls(label: &str, f: &FitResult) -> Vec<(String, f64)> {
 
 fn pull(p: &[(String, f64)], name: &str) -> f64 {
     p.iter().find(|(n, _)| n == name).unwrap().1
+}
+
+fn print_mean(mean: &[MeanOrbit]) {
+    for (p, m) in inj::PLANETS.iter().zip(mean) {
+        let (sc, ss) = m.sqrt_basis();
+        println!(
+            "  mean {}: P {:.4} d (osculating {:.4}–{:.4}), K {:.3} m/s, e {:.4} (osculating {:.4}–{:.4}), ω⋆ {:.2}° (Δω⋆ over the span {:.2}°), √e cos ω⋆ {:.4}, √e sin ω⋆ {:.4}, λ {:.3}°, phase rms {:.4} rad",
+            p.name,
+            m.period_d,
+            m.osculating_period_range_d.0,
+            m.osculating_period_range_d.1,
+            m.semi_amplitude_m_s,
+            m.e,
+            m.osculating_e_range.0,
+            m.osculating_e_range.1,
+            m.omega_star.to_degrees(),
+            m.omega_star_change.to_degrees(),
+            sc,
+            ss,
+            m.mean_longitude.to_degrees(),
+            m.phase_rms
+        );
+    }
 }
 
 /// The noise-free N-body truth against the sum of Keplerians with the same
@@ -193,22 +316,61 @@ fn dynamical_fit_recovers_injected_interacting_system() {
     let km = model_of(ModelKind::Keplerian, &obs);
     let kf = fit_model(&km, &[km.params.start_full()], &FitSettings::default()).unwrap();
     assert!(kf.converged, "{}", kf.status);
-    let kp = pulls("Keplerian", &kf);
-    for name in [
-        "b.semi_amplitude",
-        "c.semi_amplitude",
-        "KARVO.offset",
-        "MIREN.offset",
-    ] {
-        assert!(
-            pull(&kp, name).abs() < 3.0,
-            "Keplerian {name}: pull {}",
-            pull(&kp, name)
-        );
-    }
+    let kp = pulls(
+        "Keplerian against the osculating truth at t_ref",
+        &kf,
+        &truth_of,
+    );
     // Physical, documented above: Keplerian periods are mean periods, not
     // the osculating periods at t_ref; here they differ by ≫ 3σ.
     assert!(pull(&kp, "b.period").abs() > 10.0);
+    // Against the baseline-mean elements of the true integration.
+    let mean = mean_truth();
+    print_mean(&mean);
+    let km_pulls = pulls("Keplerian against the baseline-mean truth", &kf, &|n| {
+        keplerian_truth_of(&mean, n)
+    });
+    let best = best_keplerian_of_truth(&kf);
+    let kb_pulls = pulls(
+        "Keplerian against the best Keplerian of the noise-free truth",
+        &kf,
+        &|n| value(&best, n),
+    );
+    println!("best Keplerian of the truth − mean elements, in σ of the data fit:");
+    for ((n, &s), &b) in kf.names.iter().zip(&kf.std_errors).zip(&best.values) {
+        if let (Some(s), Some(m)) = (s, keplerian_truth_of(&mean, n)) {
+            println!("  {n:>18} {:>8.2}", (b - m) / s);
+        }
+    }
+    let c_evec = ["c.sqrt_e_cos_w", "c.sqrt_e_sin_w"];
+    for (name, p) in &km_pulls {
+        if name.ends_with("mean_longitude")
+            || name.ends_with("jitter")
+            || c_evec.contains(&name.as_str())
+        {
+            continue;
+        }
+        assert!(
+            p.abs() < 3.0,
+            "Keplerian {name}: pull {p} against the mean truth"
+        );
+    }
+    // c's first harmonic (2 n_c) coincides with the sideband of b's
+    // resonant phase wobble (n_b + (2 n_c − n_b)): a Keplerian gives it to
+    // c's eccentricity (module docs). Its e-vector is far from c's mean one…
+    let c_gap = pull(&km_pulls, c_evec[0]).hypot(pull(&km_pulls, c_evec[1]));
+    assert!(c_gap > 3.0, "c's e-vector {c_gap} σ from its mean");
+    // …and every fitted P, K, e-vector and offset agrees with the best
+    // Keplerian description of the noise-free truth.
+    for (name, p) in &kb_pulls {
+        if name.ends_with("mean_longitude") || name.ends_with("jitter") {
+            continue;
+        }
+        assert!(
+            p.abs() < 3.0,
+            "Keplerian {name}: pull {p} against the best Keplerian"
+        );
+    }
 
     // Dynamical fit (coplanar, free sin i, WH default) from the Keplerian
     // solution.
@@ -216,7 +378,7 @@ fn dynamical_fit_recovers_injected_interacting_system() {
     let t0 = std::time::Instant::now();
     let df = fit_model(&dm, &[start_from(&dm, &kf)], &FitSettings::default()).unwrap();
     println!("dynamical fit took {:.2?}", t0.elapsed());
-    let dp = pulls("CoplanarSinI", &df);
+    let dp = pulls("CoplanarSinI", &df, &truth_of);
     assert!(df.converged, "{}", df.status);
     // The optimum must be at least as good as the truth (else the driver stalled).
     let mut truth_full = df.values.clone();
@@ -300,14 +462,37 @@ fn dynamical_fit_recovers_injected_interacting_system() {
 /// the pulls, and catch error bars off by a factor of two or more.
 #[test]
 fn dynamical_pulls_over_seeds() {
+    let mean = mean_truth();
+    print_mean(&mean);
     let mut all = Vec::new();
+    let (mut kep_mean, mut kep_best) = (Vec::new(), Vec::new());
+    let mut best: Option<FitResult> = None;
     for seed in 1..=4u64 {
         let obs = inj::synthetic(seed, 180, 1600.0);
         let km = model_of(ModelKind::Keplerian, &obs);
         let kf = fit_model(&km, &[km.params.start_full()], &FitSettings::default()).unwrap();
+        assert!(kf.converged, "seed {seed}: {}", kf.status);
+        let best = best.get_or_insert_with(|| best_keplerian_of_truth(&kf));
+        let against_mean = pulls(&format!("seed {seed} Keplerian (mean truth)"), &kf, &|n| {
+            keplerian_truth_of(&mean, n)
+        });
+        let against_best = pulls(
+            &format!("seed {seed} Keplerian (best Keplerian)"),
+            &kf,
+            &|n| value(best, n),
+        );
+        for ((n, vm), (_, vb)) in against_mean.into_iter().zip(against_best) {
+            if n.ends_with("mean_longitude") || n.ends_with("jitter") {
+                continue;
+            }
+            if !n.starts_with("c.sqrt_e") {
+                kep_mean.push(vm);
+            }
+            kep_best.push(vb);
+        }
         let dm = model_of(ModelKind::CoplanarSinI, &obs);
         let df = fit_model(&dm, &[start_from(&dm, &kf)], &FitSettings::default()).unwrap();
-        let p = pulls(&format!("seed {seed}"), &df);
+        let p = pulls(&format!("seed {seed}"), &df, &truth_of);
         println!("  held at a bound: {:?}", df.held_at_bound);
         assert!(df.converged, "seed {seed}: {}", df.status);
         for (n, v) in p {
@@ -315,6 +500,25 @@ fn dynamical_pulls_over_seeds() {
                 all.push(v);
             }
         }
+    }
+    let stats = |v: &[f64]| {
+        let n = v.len() as f64;
+        let mean = v.iter().sum::<f64>() / n;
+        let rms = (v.iter().map(|p| p * p).sum::<f64>() / n).sqrt();
+        (mean, rms, v.iter().filter(|p| p.abs() > 3.0).count())
+    };
+    for (label, v) in [
+        ("mean elements (without c's e-vector)", &kep_mean),
+        ("best Keplerian of the truth", &kep_best),
+    ] {
+        let (m, r, b) = stats(v);
+        println!(
+            "Keplerian against the {label}: {} pulls: mean {m:.3}, rms {r:.3}, beyond 3σ: {b}",
+            v.len()
+        );
+        assert!(m.abs() < 0.5, "{label}: mean pull {m}");
+        assert!(r > 0.6 && r < 1.6, "{label}: rms pull {r}");
+        assert!(b <= 2, "{label}: {b} pulls beyond 3σ");
     }
     let n = all.len() as f64;
     let mean = all.iter().sum::<f64>() / n;

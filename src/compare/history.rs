@@ -54,6 +54,14 @@
 //!
 //! The series are preallocated for each stage; a sample costs no heap
 //! allocation (the Jacobi buffers are made once).
+//!
+//! **Spans of data.** [`record_at_epochs`] gives the same Jacobi elements at
+//! given epochs on both sides of the system's epoch (integrated outwards
+//! both ways, as the dynamical RV model does, with Wisdom–Holman or
+//! Gauss–Radau), and [`mean_orbits`] turns a dense, even sampling of a data
+//! span into the *baseline-mean* elements that a Keplerian fit of the
+//! span's RVs estimates (mean period of the RV fundamental, ⟨K⟩, mean
+//! eccentricity vector).
 
 use nalgebra::{Matrix3, Vector3};
 use std::f64::consts::TAU;
@@ -62,7 +70,7 @@ use crate::compare::resonance::{
     AngleRegime, ElementHistory, MIN_SAMPLES, PairResonanceSummary, PlanetSeries, ResonanceError,
     SummarySettings, UndecidedReason, commensurabilities, summarise_pair,
 };
-use crate::kepler::{ElementsError, period_from_a, state_to_elements};
+use crate::kepler::{ElementsError, period_from_a, semi_amplitude, state_to_elements, wrap_pi};
 use crate::nbody::events::{Event, EventSettings, NbodyError};
 use crate::nbody::integrator::Integrator;
 use crate::nbody::jacobi::{inertial_to_jacobi, interior_masses};
@@ -599,4 +607,391 @@ pub fn record_history(
         summary: settings.summary,
         pair_summaries,
     })
+}
+
+/// Integrator of [`record_at_epochs`] and [`mean_orbits`].
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub enum SpanIntegrator {
+    /// Wisdom–Holman map with a fixed step in days (`None`: the
+    /// integrator's default) and a corrector.
+    WisdomHolman {
+        /// Step in days.
+        step: Option<f64>,
+        /// Symplectic corrector.
+        corrector: Corrector,
+    },
+    /// Adaptive 15th-order Gauss–Radau (IAS15 step control) with this
+    /// tolerance ε; its dense output serves the epochs.
+    GaussRadau {
+        /// Step-control tolerance ε.
+        tolerance: f64,
+    },
+}
+
+/// Sample the osculating elements at `times_d[i]` for `i` in `indices` (in
+/// the direction of travel) into `out[planet][i]`.
+fn sample_into<I: Integrator + ?Sized>(
+    integ: &mut I,
+    times_d: &[f64],
+    indices: impl Iterator<Item = usize>,
+    sampler: &mut Sampler,
+    snap: &mut Snapshot,
+    out: &mut [Vec<Sample>],
+) -> Result<(), HistoryError> {
+    for i in indices {
+        let t = times_d[i];
+        integ.advance_to(t, snap)?;
+        sampler.load(snap);
+        for (p, series) in out.iter_mut().enumerate() {
+            series[i] = sampler.planet(p, t)?;
+        }
+    }
+    Ok(())
+}
+
+/// Run `integrator` from `system` once forward over the indices `fwd` and
+/// once, from the same start, backward over `bwd`.
+fn sample_both_ways(
+    system: &System,
+    times_d: &[f64],
+    integrator: SpanIntegrator,
+    events: EventSettings,
+    sampler: &mut Sampler,
+    out: &mut [Vec<Sample>],
+) -> Result<(), HistoryError> {
+    let t0 = system.state.t;
+    let split = times_d.partition_point(|&t| t < t0);
+    let mut snap = Snapshot::zeros(system.len(), t0);
+    let fwd = split..times_d.len();
+    let bwd = (0..split).rev();
+    match integrator {
+        SpanIntegrator::WisdomHolman { step, corrector } => {
+            let settings = WhSettings {
+                step,
+                corrector,
+                events,
+            };
+            let mut wh = WisdomHolman::new(system, settings)?;
+            sample_into(&mut wh, times_d, fwd, sampler, &mut snap, out)?;
+            let mut wh = WisdomHolman::new(system, settings)?;
+            sample_into(&mut wh, times_d, bwd, sampler, &mut snap, out)?;
+        }
+        SpanIntegrator::GaussRadau { tolerance } => {
+            use crate::nbody::gauss_radau::{GaussRadau, GaussRadauSettings};
+            let settings = GaussRadauSettings {
+                tolerance,
+                initial_step: None,
+                events,
+            };
+            let mut gr = GaussRadau::new(system.clone(), settings)?;
+            sample_into(&mut gr, times_d, fwd, sampler, &mut snap, out)?;
+            let mut gr = GaussRadau::new(system.clone(), settings)?;
+            sample_into(&mut gr, times_d, bwd, sampler, &mut snap, out)?;
+        }
+    }
+    Ok(())
+}
+
+/// Check that `times_d` are finite and strictly increasing.
+fn check_epochs(times_d: &[f64]) -> Result<(), HistoryError> {
+    if let Some(i) = times_d.iter().position(|t| !t.is_finite()) {
+        return Err(HistoryError::InvalidSetting {
+            name: "times_d",
+            value: times_d[i],
+            reason: "epochs must be finite",
+        });
+    }
+    if let Some(w) = times_d.windows(2).find(|w| !(w[1] > w[0])) {
+        return Err(HistoryError::InvalidSetting {
+            name: "times_d",
+            value: w[1],
+            reason: "epochs must be strictly increasing",
+        });
+    }
+    Ok(())
+}
+
+/// The osculating Jacobi elements of every planet at `times_d`
+/// ([`record_at_epochs`]), per planet then per epoch.
+fn record_samples(
+    system: &System,
+    times_d: &[f64],
+    integrator: SpanIntegrator,
+    frame: ElementFrame,
+    events: EventSettings,
+) -> Result<Vec<Vec<Sample>>, HistoryError> {
+    let n_planets = system.len().saturating_sub(1);
+    if n_planets == 0 {
+        return Err(HistoryError::NoPlanets);
+    }
+    check_epochs(times_d)?;
+    let rot = match frame {
+        ElementFrame::Invariable => invariable_rotation(&system.angular_momentum()),
+        ElementFrame::Reference => Matrix3::identity(),
+    };
+    let mut sampler = Sampler::new(system, rot);
+    let zero = Sample {
+        a: 0.0,
+        period: 0.0,
+        e: 0.0,
+        inc: 0.0,
+        node: 0.0,
+        varpi: 0.0,
+        lambda: 0.0,
+    };
+    let mut samples = vec![vec![zero; times_d.len()]; n_planets];
+    sample_both_ways(
+        system,
+        times_d,
+        integrator,
+        events,
+        &mut sampler,
+        &mut samples,
+    )?;
+    Ok(samples)
+}
+
+/// Osculating **Jacobi** elements of every planet of `system` at the epochs
+/// `times_d` (days, strictly increasing, on either side of the system's
+/// epoch t₀ = `system.state.t`), in `frame` (module docs; the Jacobi
+/// elements of [`record_history`], but at given epochs rather than on a
+/// grid from t₀ forward).
+///
+/// The system is integrated from t₀ once forward over the epochs ≥ t₀ and
+/// once backward, from the same initial state, over the earlier ones: the
+/// way [`crate::model::dynamical`] integrates a fitted solution, so a
+/// history made here with the same integrator follows the model's
+/// trajectory. Events as `events`; a stopping event is an error
+/// ([`HistoryError::Nbody`]).
+pub fn record_at_epochs(
+    system: &System,
+    times_d: &[f64],
+    integrator: SpanIntegrator,
+    frame: ElementFrame,
+    events: EventSettings,
+) -> Result<ElementHistory, HistoryError> {
+    let samples = record_samples(system, times_d, integrator, frame, events)?;
+    let mut history = ElementHistory {
+        times_d: times_d.to_vec(),
+        planets: samples
+            .iter()
+            .map(|_| empty_series(times_d.len()))
+            .collect(),
+    };
+    for (series, planet) in history.planets.iter_mut().zip(&samples) {
+        for s in planet {
+            push(series, s);
+        }
+    }
+    Ok(history)
+}
+
+/// A planet's **baseline-mean elements** over a span: the elements a single
+/// Keplerian, fitted to the star's RVs of an interacting system over that
+/// span, estimates (see [`mean_orbits`] for the reasoning). Angles in
+/// radians, of the star's reflex orbit where marked ω⋆ (ω⋆ = ω − π,
+/// DESIGN §3), measured in the sky frame of the input state.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct MeanOrbit {
+    /// Mean period 2π / ⟨d(λ − Ω)/dt⟩ (d), the slope of the least-squares
+    /// line through the unwrapped phase λ − Ω = M + ω: the period of the
+    /// planet's RV fundamental.
+    pub period_d: f64,
+    /// λ − Ω of that line at the system's epoch t₀ (rad, [0, 2π)): the mean
+    /// longitude a Keplerian fit with Ω = 0 reports at t₀.
+    pub mean_longitude: f64,
+    /// Root mean square of the phase about the line (rad): how far the
+    /// planet's phase is from a constant frequency over the span.
+    pub phase_rms: f64,
+    /// Time mean of the osculating RV semi-amplitude ⟨K⟩ (m/s), K from the
+    /// mass function with the Jacobi interior mass
+    /// ([`crate::kepler::semi_amplitude`]).
+    pub semi_amplitude_m_s: f64,
+    /// ⟨K e cos ω⋆⟩ / ⟨K⟩.
+    pub e_cos_omega_star: f64,
+    /// ⟨K e sin ω⋆⟩ / ⟨K⟩.
+    pub e_sin_omega_star: f64,
+    /// Eccentricity of the mean eccentricity vector,
+    /// √(e_cos_omega_star² + e_sin_omega_star²).
+    pub e: f64,
+    /// ω⋆ of the mean eccentricity vector (rad, [0, 2π)).
+    pub omega_star: f64,
+    /// Change of the unwrapped osculating ω⋆ from the first to the last
+    /// sample (rad): the apsidal precession over the span.
+    pub omega_star_change: f64,
+    /// Smallest and largest osculating period over the span (d).
+    pub osculating_period_range_d: (f64, f64),
+    /// Smallest and largest osculating eccentricity over the span.
+    pub osculating_e_range: (f64, f64),
+}
+
+impl MeanOrbit {
+    /// The mean eccentricity vector in the fit basis (√e cos ω⋆, √e sin ω⋆).
+    pub fn sqrt_basis(&self) -> (f64, f64) {
+        let s = self.e.sqrt();
+        (s * self.omega_star.cos(), s * self.omega_star.sin())
+    }
+}
+
+/// Least-squares line y = a + b (t − t₀): (b, a, rms of the residuals).
+fn line_through(t: &[f64], y: &[f64], t0: f64) -> (f64, f64, f64) {
+    let n = t.len() as f64;
+    let tm = t.iter().sum::<f64>() / n;
+    let ym = y.iter().sum::<f64>() / n;
+    let (mut stt, mut sty) = (0.0, 0.0);
+    for (ti, yi) in t.iter().zip(y) {
+        stt += (ti - tm) * (ti - tm);
+        sty += (ti - tm) * (yi - ym);
+    }
+    let b = sty / stt;
+    let ss: f64 = t
+        .iter()
+        .zip(y)
+        .map(|(ti, yi)| (yi - ym - b * (ti - tm)).powi(2))
+        .sum();
+    (b, ym + b * (t0 - tm), (ss / n).sqrt())
+}
+
+/// The baseline-mean elements ([`MeanOrbit`]) of every planet of `system`
+/// over the span `[t_start, t_end]` (days), from its osculating Jacobi
+/// elements in the sky frame at `samples` equally spaced epochs
+/// ([`record_at_epochs`] with `integrator`, both ways from the system's
+/// epoch t₀, which the span normally contains).
+///
+/// **What a Keplerian fit measures.** To first order in e a Keplerian RV
+/// signal is v ≈ K [cos(M + ω⋆) + e cos(2(M + ω⋆) − ω⋆)] (the expansion of
+/// the equation of the centre, ν ≈ M + 2e sin M; e.g. Murray & Dermott
+/// 1999, *Solar System Dynamics*, §2.5, from memory). In an interacting
+/// system, with Jacobi osculating elements, the star's velocity is exactly
+/// the sum of such terms with elements that vary in time (DESIGN §3). A
+/// Keplerian with fixed P, K, e, ω⋆ fitted by least squares to densely and
+/// evenly sampled data therefore measures
+///
+/// * the frequency of the fundamental, i.e. the mean rate of the phase
+///   M + ω = λ − Ω (the true longitude's mean rate) — *not* the mean
+///   osculating mean motion ⟨2π/P⟩, which differs from dλ/dt by dε/dt
+///   (Murray & Dermott 1999, eq. 6.145), nor the anomalistic rate dM/dt,
+///   which differs from it by the apsidal precession dϖ/dt. A
+///   constant-frequency model fitted to a phase φ(t) gives the
+///   least-squares slope of φ: here the line through the unwrapped λ − Ω.
+///   That Keplerian fits of interacting pairs return such mean periods,
+///   not osculating ones, is the classic lesson of the resonant pair of
+///   GJ 876 (Laughlin & Chambers 2001, ApJ 551, L109; Rivera & Lissauer
+///   2001, ApJ 558, 392; from memory);
+/// * the amplitude of the fundamental, the time mean ⟨K⟩;
+/// * the complex amplitude of the first harmonic, K e e^{−iω⋆}, averaged
+///   over the span: the projection of a slowly turning phasor onto a fixed
+///   one is its mean. So the fitted eccentricity vector is
+///   ⟨K e e^{iω⋆}⟩ / ⟨K⟩, the mean of the eccentricity *vector* (e, not
+///   √e: the harmonic is linear in e), converted to √e cos ω⋆, √e sin ω⋆
+///   only at the end. A precessing vector averages to a shorter one: its
+///   mean e is below the osculating e.
+///
+/// The constant term K e cos ω⋆ of each Keplerian cancels the mean of the
+/// cosine, so the offsets are the injected ones. These are first-order
+/// statements; terms of order e² and the short-period and near-resonant
+/// wobbles of the phase (reported as [`MeanOrbit::phase_rms`]) are what a
+/// Keplerian cannot follow and leaves in its residuals.
+///
+/// **Where the mean elements are not what a Keplerian measures.** Near a
+/// first-order commensurability j:(j−1) the phase of each planet wobbles
+/// at the near-resonant frequency (j−1)n₁ − j n₂ (say), and that wobble
+/// puts sidebands on its fundamental at frequencies that coincide with
+/// harmonics of the other planet: at 2:1 the sideband n₁ + (2n₂ − n₁) of
+/// the inner planet is exactly the first harmonic 2n₂ of the outer one. A
+/// sum of Keplerians then gives that part of the inner planet's signal to
+/// the outer planet's eccentricity vector, which comes out displaced from
+/// its mean (tests/fit_dynamical_injection.rs measures this: −4σ in both
+/// components for the outer planet, while the periods, amplitudes and the
+/// inner planet's eccentricity vector agree with the mean elements). The
+/// size of the wobble is [`MeanOrbit::phase_rms`] (times K in m/s).
+///
+/// **Unwrapping.** Each step of λ − Ω is predicted from the osculating
+/// mean motions (as [`crate::compare::resonance::mean_motion`] does), so
+/// `samples` need only resolve the wobbles, not the orbits; ω⋆ is
+/// unwrapped step by step (needs a sampling much finer than the
+/// precession period).
+pub fn mean_orbits(
+    system: &System,
+    t_start: f64,
+    t_end: f64,
+    samples: usize,
+    integrator: SpanIntegrator,
+    events: EventSettings,
+) -> Result<Vec<MeanOrbit>, HistoryError> {
+    if !(t_start.is_finite() && t_end.is_finite() && t_end > t_start) {
+        return Err(HistoryError::InvalidSetting {
+            name: "t_end",
+            value: t_end,
+            reason: "the span needs finite t_start < t_end",
+        });
+    }
+    if samples < MIN_SAMPLES {
+        return Err(HistoryError::InvalidSetting {
+            name: "samples",
+            value: samples as f64,
+            reason: "must be at least MIN_SAMPLES (8)",
+        });
+    }
+    let dt = (t_end - t_start) / (samples - 1) as f64;
+    let times: Vec<f64> = (0..samples).map(|i| t_start + dt * i as f64).collect();
+    let series = record_samples(system, &times, integrator, ElementFrame::Reference, events)?;
+    let t0 = system.state.t;
+    let interior = system.interior_masses();
+    let mut out = Vec::with_capacity(series.len());
+    for (p, s) in series.iter().enumerate() {
+        let (mass, m_inner) = (system.masses[p + 1], interior[p]);
+        let mut phase = Vec::with_capacity(samples);
+        let mut omega_star = Vec::with_capacity(samples);
+        let (mut k_sum, mut kc_sum, mut ks_sum) = (0.0, 0.0, 0.0);
+        for i in 0..samples {
+            let si = &s[i];
+            let u = si.lambda - si.node;
+            let w = si.varpi - si.node - std::f64::consts::PI;
+            if i == 0 {
+                phase.push(u);
+                omega_star.push(w);
+            } else {
+                let n_mid = 0.5 * (TAU / s[i - 1].period + TAU / si.period);
+                let predicted = n_mid * (times[i] - times[i - 1]);
+                let du = predicted + wrap_pi(u - phase[i - 1] - predicted);
+                phase.push(phase[i - 1] + du);
+                let dw = wrap_pi(w - omega_star[i - 1]);
+                omega_star.push(omega_star[i - 1] + dw);
+            }
+            let k = semi_amplitude(mass, si.period, si.e, si.inc.sin().abs(), m_inner).ok_or(
+                HistoryError::Elements {
+                    planet: p,
+                    t: times[i],
+                    source: ElementsError::NotBound { a: si.a, e: si.e },
+                },
+            )?;
+            k_sum += k;
+            kc_sum += k * si.e * w.cos();
+            ks_sum += k * si.e * w.sin();
+        }
+        let (rate, phase0, phase_rms) = line_through(&times, &phase, t0);
+        let (ec, es) = (kc_sum / k_sum, ks_sum / k_sum);
+        let range = |f: fn(&Sample) -> f64| {
+            s.iter()
+                .map(f)
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), x| {
+                    (lo.min(x), hi.max(x))
+                })
+        };
+        out.push(MeanOrbit {
+            period_d: TAU / rate,
+            mean_longitude: phase0.rem_euclid(TAU),
+            phase_rms,
+            semi_amplitude_m_s: k_sum / samples as f64,
+            e_cos_omega_star: ec,
+            e_sin_omega_star: es,
+            e: ec.hypot(es),
+            omega_star: es.atan2(ec).rem_euclid(TAU),
+            omega_star_change: omega_star[samples - 1] - omega_star[0],
+            osculating_period_range_d: range(|x| x.period),
+            osculating_e_range: range(|x| x.e),
+        });
+    }
+    Ok(out)
 }

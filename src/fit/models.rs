@@ -23,13 +23,44 @@ use crate::model::dynamical::{
 use crate::model::keplerian::{KeplerianParams, PlanetSignal, Trend, keplerian_model_rv};
 use crate::nbody::wisdom_holman::{WhSettings, WisdomHolman};
 
-thread_local! {
-    /// One dynamical-model workspace per thread: repeated evaluations
-    /// (optimiser, sampler, finite differences in parallel) then allocate
-    /// nothing, and the result does not depend on which thread ran it.
-    static DYNAMICAL_WORKSPACE: std::cell::RefCell<DynamicalWorkspace> =
-        std::cell::RefCell::new(DynamicalWorkspace::default());
+/// Per-thread buffers of the dynamical evaluation: the model's workspace
+/// and the decoded parameters, refilled in place on every call.
+struct DynamicalScratch {
+    ws: DynamicalWorkspace,
+    params: DynamicalParams,
 }
+
+/// Per-thread buffers of [`RvModel::ln_likelihood`] and
+/// [`RvModel::chi_square`]: residuals and jitters.
+#[derive(Default)]
+struct LikelihoodScratch {
+    resid: Vec<f64>,
+    jitter: Vec<f64>,
+}
+
+thread_local! {
+    /// One dynamical-model workspace (and parameter buffer) per thread:
+    /// repeated evaluations (optimiser, sampler, finite differences in
+    /// parallel) then allocate nothing, and the result does not depend on
+    /// which thread ran it.
+    static DYNAMICAL_SCRATCH: std::cell::RefCell<DynamicalScratch> =
+        std::cell::RefCell::new(DynamicalScratch {
+            ws: DynamicalWorkspace::default(),
+            params: DynamicalParams {
+                star_mass: 1.0,
+                planets: Vec::new(),
+                offsets: Vec::new(),
+                trend: DynTrend::default(),
+            },
+        });
+    /// Residual and jitter buffers per thread (no allocation per call).
+    static LIKELIHOOD_SCRATCH: std::cell::RefCell<LikelihoodScratch> =
+        std::cell::RefCell::new(LikelihoodScratch::default());
+}
+
+/// One planet's decoded angles: (e, ω⋆, mean anomaly at t_ref,
+/// inclination, node), radians.
+type PlanetAngles = (f64, f64, f64, f64, f64);
 
 /// Which RV model is fitted.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -247,23 +278,12 @@ impl RvModel {
 
     /// Planets' physical quantities from a full parameter vector.
     pub fn decode_planets(&self, full: &[f64]) -> Result<Vec<DecodedPlanet>, ModelError> {
-        let edge_on = std::f64::consts::FRAC_PI_2;
-        let shared_inc = self.sin_i.map(|i| full[i].clamp(-1.0, 1.0).asin());
+        let shared_inc = self.shared_inclination(full);
         self.planets
             .iter()
             .map(|s| {
-                let (e, w) = ecc_omega_from_sqrt_basis(full[s.sqrt_e_cos_w], full[s.sqrt_e_sin_w])
-                    .ok_or_else(|| ModelError::Eccentricity(s.name.clone()))?;
-                let node = s.node_difference.map_or(0.0, |i| full[i].to_radians());
-                let inclination = s
-                    .inclination
-                    .map(|i| full[i].to_radians())
-                    .or(shared_inc)
-                    .unwrap_or(edge_on);
-                // λ = M + ω_p + Ω with ω_p = ω⋆ + π.
-                let omega_p = w + std::f64::consts::PI;
-                let mean_anomaly = (full[s.mean_longitude].to_radians() - omega_p - node)
-                    .rem_euclid(std::f64::consts::TAU);
+                let (e, w, mean_anomaly, inclination, node) =
+                    self.planet_angles(s, full, shared_inc)?;
                 Ok(DecodedPlanet {
                     name: s.name.clone(),
                     period: full[s.period],
@@ -276,6 +296,70 @@ impl RvModel {
                 })
             })
             .collect()
+    }
+
+    /// The shared inclination of the coplanar model with free sin i.
+    fn shared_inclination(&self, full: &[f64]) -> Option<f64> {
+        self.sin_i.map(|i| full[i].clamp(-1.0, 1.0).asin())
+    }
+
+    /// One planet's e, ω⋆, mean anomaly at t_ref, inclination and node
+    /// (radians) from the full vector (the one decoding of
+    /// [`Self::decode_planets`] and of the dynamical evaluation).
+    fn planet_angles(
+        &self,
+        s: &PlanetSlots,
+        full: &[f64],
+        shared_inc: Option<f64>,
+    ) -> Result<PlanetAngles, ModelError> {
+        let edge_on = std::f64::consts::FRAC_PI_2;
+        let (e, w) = ecc_omega_from_sqrt_basis(full[s.sqrt_e_cos_w], full[s.sqrt_e_sin_w])
+            .ok_or_else(|| ModelError::Eccentricity(s.name.clone()))?;
+        let node = s.node_difference.map_or(0.0, |i| full[i].to_radians());
+        let inclination = s
+            .inclination
+            .map(|i| full[i].to_radians())
+            .or(shared_inc)
+            .unwrap_or(edge_on);
+        // λ = M + ω_p + Ω with ω_p = ω⋆ + π.
+        let omega_p = w + std::f64::consts::PI;
+        let mean_anomaly = (full[s.mean_longitude].to_radians() - omega_p - node)
+            .rem_euclid(std::f64::consts::TAU);
+        Ok((e, w, mean_anomaly, inclination, node))
+    }
+
+    /// Refill `out` in place (no allocation once sized) with the
+    /// dynamical-model parameters of a full vector; the same numbers as
+    /// [`Self::decode_planets`] followed by the dynamical conversion.
+    fn fill_dynamical_params(
+        &self,
+        full: &[f64],
+        out: &mut DynamicalParams,
+    ) -> Result<(), ModelError> {
+        let shared_inc = self.shared_inclination(full);
+        out.star_mass = self.star_mass;
+        out.planets.clear();
+        for s in &self.planets {
+            let (e, w, mean_anomaly, inclination, node) =
+                self.planet_angles(s, full, shared_inc)?;
+            out.planets.push(DynamicalPlanet {
+                period: full[s.period],
+                k: full[s.semi_amplitude],
+                e,
+                omega_star: w,
+                mean_anomaly,
+                inc: inclination,
+                delta_node: node,
+            });
+        }
+        out.offsets.clear();
+        out.offsets.extend(self.offsets.iter().map(|&i| full[i]));
+        let (c1, c2) = self.trend_of(full).coefficients();
+        out.trend = DynTrend {
+            linear: c1,
+            quadratic: c2,
+        };
+        Ok(())
     }
 
     /// The trend as the Keplerian model takes it.
@@ -316,9 +400,9 @@ impl RvModel {
         inst: &[usize],
         out: &mut [f64],
     ) -> Result<(), ModelError> {
-        let planets = self.decode_planets(full)?;
         match self.kind {
             ModelKind::Keplerian => {
+                let planets = self.decode_planets(full)?;
                 let params = KeplerianParams {
                     t_ref: self.t_ref,
                     planets: planets
@@ -337,41 +421,13 @@ impl RvModel {
                 keplerian_model_rv(&params, t, inst, out)
                     .map_err(|e| ModelError::Evaluation(e.to_string()))
             }
-            _ => {
-                let params = self.dynamical_params(full, &planets);
-                DYNAMICAL_WORKSPACE.with(|ws| {
-                    let mut ws = ws.borrow_mut();
-                    self.dynamics
-                        .star_rv(&params, t, inst, &mut ws, out)
-                        .map_err(|e| ModelError::Evaluation(e.to_string()))
-                })
-            }
-        }
-    }
-
-    /// The dynamical-model parameters of a full vector with its decoded
-    /// planets.
-    fn dynamical_params(&self, full: &[f64], planets: &[DecodedPlanet]) -> DynamicalParams {
-        let (c1, c2) = self.trend_of(full).coefficients();
-        DynamicalParams {
-            star_mass: self.star_mass,
-            planets: planets
-                .iter()
-                .map(|p| DynamicalPlanet {
-                    period: p.period,
-                    k: p.semi_amplitude,
-                    e: p.eccentricity,
-                    omega_star: p.omega_star,
-                    mean_anomaly: p.mean_anomaly,
-                    inc: p.inclination,
-                    delta_node: p.node,
-                })
-                .collect(),
-            offsets: self.offsets_of(full),
-            trend: DynTrend {
-                linear: c1,
-                quadratic: c2,
-            },
+            _ => DYNAMICAL_SCRATCH.with(|scratch| {
+                let scratch = &mut *scratch.borrow_mut();
+                self.fill_dynamical_params(full, &mut scratch.params)?;
+                self.dynamics
+                    .star_rv(&scratch.params, t, inst, &mut scratch.ws, out)
+                    .map_err(|e| ModelError::Evaluation(e.to_string()))
+            }),
         }
     }
 
@@ -390,8 +446,13 @@ impl RvModel {
         if self.kind == ModelKind::Keplerian {
             return Ok(None);
         }
-        let planets = self.decode_planets(full)?;
-        let params = self.dynamical_params(full, &planets);
+        let mut params = DynamicalParams {
+            star_mass: self.star_mass,
+            planets: Vec::with_capacity(self.planets.len()),
+            offsets: Vec::with_capacity(self.offsets.len()),
+            trend: DynTrend::default(),
+        };
+        self.fill_dynamical_params(full, &mut params)?;
         let eval = |e: String| ModelError::Evaluation(e);
         let mut ws = DynamicalWorkspace::default();
         self.dynamics
@@ -589,24 +650,34 @@ impl RvModel {
     /// ln L of a full parameter vector (−∞ when the model cannot be
     /// evaluated).
     pub fn ln_likelihood(&self, full: &[f64]) -> f64 {
-        let mut r = vec![0.0; self.obs.len()];
-        if self.residuals(full, &mut r).is_err() {
-            return f64::NEG_INFINITY;
-        }
-        let jit = self.jitters_of(full);
-        if jit.iter().any(|&j| !(j >= 0.0)) {
-            return f64::NEG_INFINITY;
-        }
-        ln_likelihood(&r, &self.obs.err, &self.obs.inst, &jit)
+        self.with_residuals(full, |r, jit| {
+            if jit.iter().any(|&j| !(j >= 0.0)) {
+                return f64::NEG_INFINITY;
+            }
+            ln_likelihood(r, &self.obs.err, &self.obs.inst, jit)
+        })
+        .unwrap_or(f64::NEG_INFINITY)
     }
 
     /// χ² of a full parameter vector with its jitters.
     pub fn chi_square(&self, full: &[f64]) -> f64 {
-        let mut r = vec![0.0; self.obs.len()];
-        if self.residuals(full, &mut r).is_err() {
-            return f64::INFINITY;
-        }
-        chi_square(&r, &self.obs.err, &self.obs.inst, &self.jitters_of(full))
+        self.with_residuals(full, |r, jit| {
+            chi_square(r, &self.obs.err, &self.obs.inst, jit)
+        })
+        .unwrap_or(f64::INFINITY)
+    }
+
+    /// `f(residuals, jitters)` with both in this thread's buffers (no
+    /// allocation once sized); `None` when the model cannot be evaluated.
+    fn with_residuals(&self, full: &[f64], f: impl FnOnce(&[f64], &[f64]) -> f64) -> Option<f64> {
+        LIKELIHOOD_SCRATCH.with(|scratch| {
+            let scratch = &mut *scratch.borrow_mut();
+            scratch.resid.resize(self.obs.len(), 0.0);
+            self.residuals(full, &mut scratch.resid).ok()?;
+            scratch.jitter.clear();
+            scratch.jitter.extend(self.jitters.iter().map(|&i| full[i]));
+            Some(f(&scratch.resid, &scratch.jitter))
+        })
     }
 
     /// ln posterior (up to a constant) at an unconstrained free vector `u`:
