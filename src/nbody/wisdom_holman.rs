@@ -97,8 +97,9 @@
 //! by +(h²/24)(T v')_k. [`CorrectorForm::FirstOrder`] (the default)
 //! applies C at outputs as x → x + L_χ x with α = h²/24 (one force
 //! evaluation and one tidal product, no drift), and C_τ⁻¹ C_h as one such
-//! map with α = (h² − τ²)/24. Its error, O(ε h⁴) (the higher terms of C)
-//! + O(ε² h⁴) (first order), is made once per output on a copy: the RVs
+//! map with α = (h² − τ²)/24. Its error, O(ε h⁴) from the higher terms
+//! of C and O(ε² h⁴) from the first order, is made once per output on a
+//! copy: the RVs
 //! of first-order and kernel outputs differ by ≤ 5.5e-6 m/s at h = 4 d
 //! (4.3e-7 at 2 d) on the benchmark system, against a map error of
 //! 2e-4 m/s (tests/nbody_wh_kernel.rs). [`CorrectorForm::Kernels`] keeps the
