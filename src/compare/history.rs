@@ -528,6 +528,7 @@ pub fn record_history(
             step: settings.step_d,
             corrector: settings.corrector,
             events: settings.events,
+            ..WhSettings::default()
         },
     )?;
     let mut snap = Snapshot::zeros(system.len(), t0);

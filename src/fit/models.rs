@@ -462,6 +462,7 @@ impl RvModel {
             step: None,
             corrector,
             events: self.dynamics.events,
+            ..WhSettings::default()
         };
         let wh = WisdomHolman::new(ws.system(), settings).map_err(|e| eval(e.to_string()))?;
         Ok(Some(wh.step()))

@@ -327,6 +327,7 @@ impl DynamicalModel {
                     step,
                     corrector,
                     events: self.events,
+                    ..WhSettings::default()
                 };
                 let wh = match ws.wh.as_mut() {
                     Some(wh) => {
@@ -362,6 +363,7 @@ impl DynamicalModel {
                         step: None,
                         corrector: Corrector::Off,
                         events: self.events,
+                        ..WhSettings::default()
                     },
                 )?;
                 check_work(span, probe.step())?;

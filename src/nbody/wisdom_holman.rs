@@ -42,15 +42,69 @@
 //! b · 2 sinh(a ad_A) B + O(b²), and solve for the kernel kick sizes b_i
 //! with drift sizes a_i = (i/2) h so that the first 1, 2 or 3 terms of C
 //! are matched exactly (coefficients below, exact rationals; derivation
-//! ours, with WHT96's structure — not their published coefficients). The
-//! residual error is then O(ε h^{2n+2}) + O(ε² h²). Input states are
-//! mapped by C⁻¹ once; every output applies C on a copy, and an output
-//! between boundaries takes its partial step τ conjugated by its own
-//! corrector, C_τ L_τ C_τ⁻¹. The direction of C was fixed by a test (it
-//! must reduce the energy error; the other sign doubles it). Correctors
-//! remove the oscillating O(ε h²) error, not the O(ε² h²) terms, which
-//! set the slow phase error of strongly interacting giants: there they
-//! improve the energy by 10–40× but not the RVs.
+//! ours, with WHT96's structure — not their published coefficients;
+//! n = 1..4 kernels). The residual error is then O(ε h^{2n+2}) +
+//! O(ε² h²). Input states are mapped by C⁻¹ once (always by the kernels);
+//! every output applies C on a copy, and an output between boundaries
+//! takes its partial step τ conjugated by its own corrector,
+//! C_τ L_τ C_τ⁻¹. The direction of C was fixed by a test (it must reduce
+//! the energy error; the other sign doubles it). Correctors remove the
+//! oscillating O(ε h²) error, not the O(ε² h²) terms, which set the slow
+//! phase error of strongly interacting giants: with the plain kick they
+//! improve the energy by 10–40× but not the RVs. The modified kick below
+//! removes the O(ε² h²) term.
+//!
+//! The corrector order matters at the start, not at the outputs: the error
+//! of C⁻¹ at the start is an error of the initial conditions, which the
+//! flow carries on (a phase error growing ∝ t), while the error of C at an
+//! output is made once, on a copy. Hence a high order (RemoveH8) costs
+//! nothing per step and the outputs can use C to first order (below).
+//!
+//! **Modified kick** ([`Kick::Modified`]). Baker–Campbell–Hausdorff for
+//! the symmetric product (Yoshida 1990, Phys. Lett. A 150, 262, eq. for
+//! S(h) = e^{hA/2} e^{hB} e^{hA/2}) gives the map's generator
+//! h(A + B) − (h³/24)[A,[A,B]] + (h³/12)[B,[B,A]] + O(h⁵), i.e. the
+//! modified Hamiltonian H + h² [−(1/24){A,{A,B}} + (1/12){{A,B},B}]
+//! (the sign of the second term is that of the bracket squared, so it does
+//! not depend on the bracket convention). With B a function of the Jacobi
+//! positions only and A's kinetic part Σ p'²/(2m'),
+//! {{A,B},B} = Σ_k |∂B/∂r'_k|²/m'_k = Σ_k m'_k |a_k|² =: G ≥ 0, a_k the
+//! Jacobi kick accelerations; it is O(ε²). A corrector's conjugation
+//! removes the first term and shifts the second to (h²/24) G (conjugation
+//! by C = c h²[A,B] changes the two coefficients by −c and +c; c = −1/24
+//! cancels the first). Kicking with the potential B − c' h² G, c' = 1/12
+//! without a corrector and 1/24 with one, cancels the O(ε² h²) term
+//! (the kernel correction of Wisdom, Holman & Touma 1996 and the SABAC
+//! corrector of Laskar & Robutel 2001, Celest. Mech. 80, 39, whose c for
+//! SABA₁ is 1/12). Its force: ∂G/∂r'_j = −2 m'_j Σ_k (∂a_j/∂r'_k) a_k
+//! (the Hessian of B is symmetric), so the kick is
+//! v'_k += h [a_k + β h² (T a)_k], β = 2c' (1/6 or 1/12), T = ∂a/∂r'
+//! the tidal map of the interaction (pair tidal tensors, the Kepler
+//! compensation terms and the post-Newtonian term's derivative, as in the
+//! tangent kick) applied to a itself. It is the exact flow of a
+//! position-only Hamiltonian, so the map stays symplectic and symmetric.
+//! The coefficient is checked numerically (unit test): with β the RV floor
+//! vanishes, with −β it doubles, with 2β it is unchanged in size.
+//! Measured on two giants near 2:1 (ε ≈ 3e-3; tests/nbody_wh_kernel.rs,
+//! BENCHMARKS.md): with RemoveH6 the RV error at h = 2 → 1 d falls 35×
+//! (plain kick: 4×, the floor), and scales as ε² relative to the
+//! amplitude; ≤ 1 mm/s over 4000 d at h = 4–4.5 d (plain: h = 1.5 d).
+//! Extra cost: one tidal-tensor product per kick (no square root).
+//!
+//! **Outputs** ([`CorrectorForm`]). The first term of C is the Lie
+//! transform of χ = (h²/24) Σ_k v'_k·∂B/∂r'_k: the kernel Z(h/2, h/24)
+//! expanded to first order in its kick moves r'_k by −(h²/24) a_k and v'_k
+//! by +(h²/24)(T v')_k. [`CorrectorForm::FirstOrder`] (the default)
+//! applies C at outputs as x → x + L_χ x with α = h²/24 (one force
+//! evaluation and one tidal product, no drift), and C_τ⁻¹ C_h as one such
+//! map with α = (h² − τ²)/24. Its error, O(ε h⁴) from the higher terms
+//! of C and O(ε² h⁴) from the first order, is made once per output on a
+//! copy: the RVs
+//! of first-order and kernel outputs differ by ≤ 5.5e-6 m/s at h = 4 d
+//! (4.3e-7 at 2 d) on the benchmark system, against a map error of
+//! 2e-4 m/s (tests/nbody_wh_kernel.rs). [`CorrectorForm::Kernels`] keeps the
+//! kernels at the outputs (the earlier code: 3n drifts per application,
+//! three applications per output).
 //!
 //! **Post-Newtonian.** A position-only pair potential between the star and
 //! each planet, U_k = −3 (G m_0)² m_k / (c² r_0k²) (Nobili & Roxburgh 1986;
@@ -82,8 +136,8 @@
 //! the centre of mass), each kick by δv'_k += h [(A δa)_k + μ_k (δr'_k/r'³
 //! − 3 r'_k (r'_k·δr'_k)/r'⁵)], δa the tidal tensor applied to
 //! δx = A⁻¹δr' (plus the derivative of the post-Newtonian force
-//! −6(Gm_0)²m_k d/(c²r⁴) when on). Not available with a corrector. Without
-//! tangent vectors the step is the plain one.
+//! −6(Gm_0)²m_k d/(c²r⁴) when on). Not available with a corrector or the
+//! modified kick. Without tangent vectors the step is the plain one.
 //!
 //! No heap allocation happens in a step or an output: every buffer is made
 //! at construction (or when tangent vectors are set).
@@ -112,21 +166,62 @@ pub enum Corrector {
     RemoveH4,
     /// Three kernels: removes the O(ε h²), O(ε h⁴) and O(ε h⁶) terms.
     RemoveH6,
+    /// Four kernels: removes the O(ε h²) to O(ε h⁸) terms.
+    RemoveH8,
 }
 
 impl Corrector {
     /// Kernel kick sizes b_i / h for drift sizes a_i / h = i/2
     /// (i = 1..n), solving Σ_i b_i · 2 a_i^{2m+1}/(2m+1)! = c_{2m+1} for
-    /// c₁ = −1/24, c₃ = 7/5760, c₅ = −31/967680 (exact rationals, solved
-    /// with Python fractions; checked by a unit test).
+    /// c₁ = −1/24, c₃ = 7/5760, c₅ = −31/967680, c₇ = 127/154828800
+    /// (exact rationals, solved with Python fractions; checked by a unit
+    /// test).
     fn kicks(self) -> &'static [f64] {
         match self {
             Corrector::Off => &[],
             Corrector::RemoveH2 => &[-1.0 / 24.0],
             Corrector::RemoveH4 => &[-47.0 / 720.0, 17.0 / 1440.0],
             Corrector::RemoveH6 => &[-9781.0 / 120_960.0, 367.0 / 15_120.0, -377.0 / 120_960.0],
+            Corrector::RemoveH8 => &[
+                -334_303.0 / 3_628_800.0,
+                128_953.0 / 3_628_800.0,
+                -3203.0 / 403_200.0,
+                5839.0 / 7_257_600.0,
+            ],
         }
     }
+}
+
+/// The interaction kick of the Wisdom–Holman map (module docs, "Modified
+/// kick").
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
+pub enum Kick {
+    /// The kick of H_B (Wisdom & Holman 1991): error O(ε h²) without a
+    /// corrector, O(ε² h²) with one.
+    #[default]
+    Plain,
+    /// The kick of the modified potential H_B − c h² {{H_A,H_B},H_B}
+    /// (c = 1/12 without a corrector, 1/24 with one; Wisdom, Holman &
+    /// Touma 1996; Laskar & Robutel 2001, SABAC), which removes the
+    /// O(ε² h²) error: with a corrector the error is then
+    /// O(ε h^{2n+2}) + O(ε² h⁴). About one tidal-tensor product more per
+    /// kick. Tangent vectors are refused with it.
+    Modified,
+}
+
+/// How the corrector C of [`Corrector::RemoveH2`] is applied to the
+/// states at the outputs and at the start (module docs, "Outputs").
+/// Ignored by the other correctors, which always use kernels.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum CorrectorForm {
+    /// By the kernels Z(a_i, b_i) (drifts and kicks; the code before the
+    /// first-order form; kept as the benchmark baseline).
+    Kernels,
+    /// By its first-order Lie series x → x + L_χ x with
+    /// χ = (h²/24) Σ_k v'_k·∂H_B/∂r'_k: one force evaluation and one
+    /// tidal-tensor product, no drift (the default).
+    #[default]
+    FirstOrder,
 }
 
 /// Settings of the Wisdom–Holman integrator.
@@ -139,6 +234,9 @@ pub struct WhSettings {
     pub corrector: Corrector,
     /// Events to look for.
     pub events: EventSettings,
+    /// The kick (default [`Kick::Plain`]).
+    #[serde(default)]
+    pub kick: Kick,
 }
 
 impl Default for WhSettings {
@@ -147,7 +245,18 @@ impl Default for WhSettings {
             step: None,
             corrector: Corrector::Off,
             events: EventSettings::default(),
+            kick: Kick::Plain,
         }
+    }
+}
+
+/// Coefficient β of the modified kick v' += h (a + β h² T a) (module
+/// docs): 1/6 without a corrector, 1/12 with one, 0 for the plain kick.
+fn kick_beta(kick: Kick, corrector: Corrector) -> f64 {
+    match (kick, corrector) {
+        (Kick::Plain, _) => 0.0,
+        (Kick::Modified, Corrector::Off) => 1.0 / 6.0,
+        (Kick::Modified, _) => 1.0 / 12.0,
     }
 }
 
@@ -208,6 +317,56 @@ struct Work {
     kep: Vec<(f64, f64)>,
 }
 
+/// Work of the modified kick and of the first-order corrector: the Jacobi
+/// kick accelerations, the pair geometry of the last force evaluation and
+/// the buffers of one tidal-tensor product.
+#[derive(Debug, Clone, Default)]
+struct KernelWork {
+    /// Jacobi interaction accelerations a_k = (A a)_k + μ_k r'_k/r'_k³
+    /// (entry 0 zero).
+    a: Vec<Vector3<f64>>,
+    /// Result of a tidal-tensor product (Jacobi).
+    t: Vec<Vector3<f64>>,
+    geo: Geometry,
+    scratch: TidalScratch,
+}
+
+/// Per pair i < j (row-major n×n) d = x_j − x_i, 1/d³, 3/d²; per planet
+/// μ_k/r'³ and 3/r'².
+#[derive(Debug, Clone, Default)]
+struct Geometry {
+    pair: Vec<(Vector3<f64>, f64, f64)>,
+    kep: Vec<(f64, f64)>,
+}
+
+/// Inertial δx, δa and Jacobi δa of a tidal-tensor product.
+#[derive(Debug, Clone, Default)]
+struct TidalScratch {
+    dpos: Vec<Vector3<f64>>,
+    dacc: Vec<Vector3<f64>>,
+    djacc: Vec<Vector3<f64>>,
+}
+
+impl KernelWork {
+    fn resize(&mut self, n: usize) {
+        let z = Vector3::zeros();
+        for v in [
+            &mut self.a,
+            &mut self.t,
+            &mut self.scratch.dpos,
+            &mut self.scratch.dacc,
+            &mut self.scratch.djacc,
+        ] {
+            v.clear();
+            v.resize(n, z);
+        }
+        self.geo.pair.clear();
+        self.geo.pair.resize(n * n, (z, 0.0, 0.0));
+        self.geo.kep.clear();
+        self.geo.kep.resize(n, (0.0, 0.0));
+    }
+}
+
 /// Tangent vectors in Jacobi coordinates: `ntan` blocks of n entries.
 #[derive(Debug, Clone, Default)]
 struct Tangents {
@@ -242,6 +401,11 @@ pub struct WisdomHolman {
     events: Vec<Event>,
     settings: EventSettings,
     corrector: Corrector,
+    kick: Kick,
+    /// β of the modified kick ([`kick_beta`]).
+    beta: f64,
+    form: CorrectorForm,
+    kw: KernelWork,
     /// |h| in days.
     step: f64,
     t0: f64,
@@ -287,6 +451,10 @@ impl WisdomHolman {
             events: Vec::with_capacity(16),
             settings: settings.events,
             corrector: settings.corrector,
+            kick: settings.kick,
+            beta: kick_beta(settings.kick, settings.corrector),
+            form: CorrectorForm::default(),
+            kw: KernelWork::default(),
             step: 1.0,
             t0: system.state.t,
             steps: 0,
@@ -337,6 +505,7 @@ impl WisdomHolman {
         self.w.pair.resize(n * n, (z, 0.0, 0.0));
         self.w.kep.resize(n, (0.0, 0.0));
         self.w.save = false;
+        self.kw.resize(n);
         let b = &mut self.b;
         b.masses.clear();
         b.masses.extend_from_slice(&system.masses);
@@ -386,22 +555,19 @@ impl WisdomHolman {
         self.steps = 0;
         self.lag = 0.0;
         // Real → mapping coordinates: C⁻¹.
-        if self.corrector != Corrector::Off {
+        self.beta = kick_beta(self.kick, self.corrector);
+        let c = Conj {
+            corrector: self.corrector,
+            form: CorrectorForm::Kernels,
+        };
+        if c.corrector != Corrector::Off {
             let (jr, jv) = (&mut self.jr, &mut self.jv);
-            apply_corrector(
-                &self.b,
-                &mut self.w,
-                jr,
-                jv,
-                self.corrector,
-                self.step,
-                true,
-            )
-            .map_err(|body| NbodyError::Drift {
-                t: s.t,
-                body: body.0,
-                source: body.1,
-            })?;
+            c.apply(&self.b, &mut self.w, &mut self.kw, jr, jv, self.step, true)
+                .map_err(|body| NbodyError::Drift {
+                    t: s.t,
+                    body: body.0,
+                    source: body.1,
+                })?;
         }
         Ok(())
     }
@@ -415,6 +581,18 @@ impl WisdomHolman {
     /// (the mapping coordinates depend on it).
     pub(crate) fn set_corrector(&mut self, corrector: Corrector) {
         self.corrector = corrector;
+        self.beta = kick_beta(self.kick, corrector);
+    }
+
+    /// Choose how the corrector is applied at the outputs
+    /// ([`CorrectorForm`]; the start always uses the kernels).
+    pub fn set_corrector_form(&mut self, form: CorrectorForm) {
+        self.form = form;
+    }
+
+    /// The kick in use.
+    pub fn kick(&self) -> Kick {
+        self.kick
     }
 
     /// Choose how the Kepler drifts are solved ([`DriftKernel`]; the
@@ -440,12 +618,21 @@ impl WisdomHolman {
     /// step of `tau` (fused drifts). With one: map the boundary state to
     /// real coordinates with C_h, then take the partial step conjugated by
     /// its own corrector, C_τ L_τ C_τ⁻¹, so that the partial step is as
-    /// accurate as the corrected main steps.
+    /// accurate as the corrected main steps. With the first-order form of
+    /// C (module docs, "Outputs") C_τ⁻¹ C_h is one first-order map of
+    /// coefficient (h² − τ²)/24.
     fn output(&mut self, tau: f64, t: f64, out: &mut Snapshot) -> Result<(), NbodyError> {
         self.sr.copy_from_slice(&self.jr);
         self.sv.copy_from_slice(&self.jv);
         let drift_err = |(body, source)| NbodyError::Drift { t, body, source };
-        let (b, w, sr, sv) = (&self.b, &mut self.w, &mut self.sr, &mut self.sv);
+        let beta = self.beta;
+        let (b, w, kw, sr, sv) = (
+            &self.b,
+            &mut self.w,
+            &mut self.kw,
+            &mut self.sr,
+            &mut self.sv,
+        );
         if self.tan.ntan > 0 {
             let tn = &mut self.tan;
             tn.sr.copy_from_slice(&tn.r);
@@ -466,19 +653,33 @@ impl WisdomHolman {
         } else if self.corrector == Corrector::Off {
             drift_all(b, sr, sv, self.lag + 0.5 * tau).map_err(drift_err)?;
             if tau != 0.0 {
-                kick(b, w, sr, sv, tau);
+                any_kick(b, w, kw, sr, sv, tau, beta);
                 drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
             }
-        } else {
-            let c = self.corrector;
+        } else if self.form == CorrectorForm::FirstOrder {
             drift_all(b, sr, sv, self.lag).map_err(drift_err)?;
-            apply_corrector(b, w, sr, sv, c, self.step, false).map_err(drift_err)?;
+            let h = self.step;
+            first_order_corrector(b, w, kw, sr, sv, (h * h - tau * tau) / 24.0);
             if tau != 0.0 {
-                apply_corrector(b, w, sr, sv, c, tau, true).map_err(drift_err)?;
                 drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
-                kick(b, w, sr, sv, tau);
+                any_kick(b, w, kw, sr, sv, tau, beta);
                 drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
-                apply_corrector(b, w, sr, sv, c, tau, false).map_err(drift_err)?;
+                first_order_corrector(b, w, kw, sr, sv, tau * tau / 24.0);
+            }
+        } else {
+            let c = Conj {
+                corrector: self.corrector,
+                form: CorrectorForm::Kernels,
+            };
+            drift_all(b, sr, sv, self.lag).map_err(drift_err)?;
+            c.apply(b, w, kw, sr, sv, self.step, false)
+                .map_err(drift_err)?;
+            if tau != 0.0 {
+                c.apply(b, w, kw, sr, sv, tau, true).map_err(drift_err)?;
+                drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
+                any_kick(b, w, kw, sr, sv, tau, beta);
+                drift_all(b, sr, sv, 0.5 * tau).map_err(drift_err)?;
+                c.apply(b, w, kw, sr, sv, tau, false).map_err(drift_err)?;
             }
         }
         if !all_finite(&self.sr) || !all_finite(&self.sv) {
@@ -526,7 +727,19 @@ impl WisdomHolman {
         };
         if self.tan.ntan == 0 {
             drift_all(&self.b, &mut self.jr, &mut self.jv, drift).map_err(drift_err)?;
-            kick(&self.b, &mut self.w, &self.jr, &mut self.jv, h);
+            if self.beta == 0.0 {
+                kick(&self.b, &mut self.w, &self.jr, &mut self.jv, h);
+            } else {
+                modified_kick(
+                    &self.b,
+                    &mut self.w,
+                    &mut self.kw,
+                    &self.jr,
+                    &mut self.jv,
+                    h,
+                    self.beta,
+                );
+            }
         } else {
             let n = self.jr.len();
             let tn = &mut self.tan;
@@ -897,6 +1110,212 @@ fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], 
     }
 }
 
+/// The plain kick ([`kick`], `beta` = 0) or the modified one
+/// ([`modified_kick`]).
+#[inline]
+fn any_kick(
+    b: &Bodies,
+    w: &mut Work,
+    kw: &mut KernelWork,
+    jr: &[Vector3<f64>],
+    jv: &mut [Vector3<f64>],
+    h: f64,
+    beta: f64,
+) {
+    if beta == 0.0 {
+        kick(b, w, jr, jv, h);
+    } else {
+        modified_kick(b, w, kw, jr, jv, h, beta);
+    }
+}
+
+/// Jacobi interaction accelerations a_k = (A a)_k + μ_k r'_k/r'_k³ (au/d²)
+/// at the Jacobi positions `jr` into `kw.a` (entry 0 zero), the inertial
+/// positions into `w.pos` (for events) and the pair geometry into
+/// `kw.geo`: the force part of [`kick`].
+#[inline]
+fn interaction(b: &Bodies, w: &mut Work, kw: &mut KernelWork, jr: &[Vector3<f64>]) {
+    let n = jr.len();
+    jacobi::jacobi_to_inertial_with(&b.ratio, jr, &mut w.pos);
+    let pos = &w.pos;
+    let acc = &mut w.acc;
+    for a in acc.iter_mut() {
+        *a = Vector3::zeros();
+    }
+    for i in 0..n {
+        for j in (i + 1)..n {
+            let d = pos[j] - pos[i];
+            let r2 = d.norm_squared();
+            let inv_r3 = 1.0 / (r2 * r2.sqrt());
+            acc[i] += d * (b.gm[j] * inv_r3);
+            acc[j] -= d * (b.gm[i] * inv_r3);
+            kw.geo.pair[i * n + j] = (d, inv_r3, 3.0 / r2);
+        }
+    }
+    if b.pn != 0.0 {
+        let m0 = b.masses[0];
+        for k in 1..n {
+            let d = pos[k] - pos[0];
+            let r2 = d.norm_squared();
+            let f = d * (b.pn / (r2 * r2));
+            acc[k] -= f;
+            acc[0] += f * (b.masses[k] / m0);
+        }
+    }
+    jacobi::inertial_to_jacobi_with(&b.masses, &b.inv_interior, acc, &mut w.jacc);
+    kw.a[0] = Vector3::zeros();
+    for (k, &r) in jr.iter().enumerate().skip(1) {
+        let r2 = r.norm_squared();
+        let mu_r3 = b.mu[k] / (r2 * r2.sqrt());
+        kw.a[k] = w.jacc[k] + r * mu_r3;
+        kw.geo.kep[k] = (mu_r3, 3.0 / r2);
+    }
+}
+
+/// Tidal-tensor product: `out`_k = Σ_j (∂a_k/∂r'_j) `src`_j (Jacobi, per
+/// unit of `src`), the derivative of the Jacobi interaction accelerations
+/// a_k of [`interaction`] (pair tidal tensors of
+/// [`super::variational::tidal_accelerations`], the post-Newtonian term's
+/// derivative and the Kepler compensation μ_k [δr/r³ − 3 r (r·δr)/r⁵]),
+/// at the geometry `geo` left by [`interaction`] with inertial positions
+/// `pos`. `src`_0 is ignored (the interaction does not depend on the
+/// centre of mass); `out`_0 is set to zero.
+#[inline]
+fn tidal_product(
+    b: &Bodies,
+    pos: &[Vector3<f64>],
+    geo: &Geometry,
+    jr: &[Vector3<f64>],
+    src: &[Vector3<f64>],
+    s: &mut TidalScratch,
+    out: &mut [Vector3<f64>],
+) {
+    let n = jr.len();
+    let first = src[0];
+    jacobi::jacobi_to_inertial_with(&b.ratio, src, &mut s.dpos);
+    // The centre-of-mass entry only translates every body: drop it.
+    if first != Vector3::zeros() {
+        for x in s.dpos.iter_mut() {
+            *x -= first;
+        }
+    }
+    for a in s.dacc.iter_mut() {
+        *a = Vector3::zeros();
+    }
+    for i in 0..n {
+        for j in (i + 1)..n {
+            let (d, inv_r3, three_r2) = geo.pair[i * n + j];
+            let dd = s.dpos[j] - s.dpos[i];
+            let t = (dd - d * (three_r2 * d.dot(&dd))) * inv_r3;
+            s.dacc[i] += t * b.gm[j];
+            s.dacc[j] -= t * b.gm[i];
+        }
+    }
+    if b.pn != 0.0 {
+        let m0 = b.masses[0];
+        for k in 1..n {
+            let d = pos[k] - pos[0];
+            let dd = s.dpos[k] - s.dpos[0];
+            let r2 = d.norm_squared();
+            let df = (dd - d * (4.0 * d.dot(&dd) / r2)) * (b.pn / (r2 * r2));
+            s.dacc[k] -= df;
+            s.dacc[0] += df * (b.masses[k] / m0);
+        }
+    }
+    jacobi::inertial_to_jacobi_with(&b.masses, &b.inv_interior, &s.dacc, &mut s.djacc);
+    out[0] = Vector3::zeros();
+    for k in 1..n {
+        let rk = jr[k];
+        let dr = src[k];
+        let (mu_r3, three_r2) = geo.kep[k];
+        out[k] = s.djacc[k] + (dr - rk * (three_r2 * rk.dot(&dr))) * mu_r3;
+    }
+}
+
+/// Modified kick v'_k += h [a_k + β h² (T a)_k] (module docs, "Modified
+/// kick"): the exact flow over h of the position-only potential
+/// H_B − (β/2) h² Σ_k m'_k |a_k|², with a the Jacobi interaction
+/// accelerations of [`interaction`] and T their Jacobian ∂a/∂r'
+/// ([`tidal_product`]).
+#[inline]
+fn modified_kick(
+    b: &Bodies,
+    w: &mut Work,
+    kw: &mut KernelWork,
+    jr: &[Vector3<f64>],
+    jv: &mut [Vector3<f64>],
+    h: f64,
+    beta: f64,
+) {
+    interaction(b, w, kw, jr);
+    let KernelWork { a, t, geo, scratch } = kw;
+    tidal_product(b, &w.pos, geo, jr, a, scratch, t);
+    let c = beta * h * h;
+    for k in 1..jr.len() {
+        jv[k] += (a[k] + t[k] * c) * h;
+    }
+}
+
+/// First-order corrector (module docs, "Outputs"): the Jacobi state
+/// x → x + L_χ x, i.e. r'_k −= α a_k, v'_k += α (T v')_k, for the
+/// generator χ = α Σ_k v'_k·∂H_B/∂r'_k (H_B in Jacobi coordinates), with a
+/// and T as in [`modified_kick`], both at the input state. α = h²/24 is
+/// C_h of [`Corrector::RemoveH2`] to first order in ε (the kernel
+/// Z(h/2, h/24) to first order in its kick), α = −h²/24 its inverse.
+#[inline]
+fn first_order_corrector(
+    b: &Bodies,
+    w: &mut Work,
+    kw: &mut KernelWork,
+    jr: &mut [Vector3<f64>],
+    jv: &mut [Vector3<f64>],
+    alpha: f64,
+) {
+    if alpha == 0.0 {
+        return;
+    }
+    interaction(b, w, kw, jr);
+    let KernelWork { a, t, geo, scratch } = kw;
+    tidal_product(b, &w.pos, geo, jr, jv, scratch, t);
+    for k in 1..jr.len() {
+        jr[k] -= a[k] * alpha;
+        jv[k] += t[k] * alpha;
+    }
+}
+
+/// A corrector and the form it is applied in.
+#[derive(Debug, Clone, Copy)]
+struct Conj {
+    corrector: Corrector,
+    form: CorrectorForm,
+}
+
+impl Conj {
+    /// Apply C (`inverse` false) or C⁻¹ (`inverse` true) for the step `h`
+    /// to a Jacobi state: [`first_order_corrector`] for
+    /// [`Corrector::RemoveH2`] in [`CorrectorForm::FirstOrder`], else
+    /// [`apply_corrector`].
+    #[allow(clippy::too_many_arguments)]
+    fn apply(
+        self,
+        b: &Bodies,
+        w: &mut Work,
+        kw: &mut KernelWork,
+        jr: &mut [Vector3<f64>],
+        jv: &mut [Vector3<f64>],
+        h: f64,
+        inverse: bool,
+    ) -> Result<(), (usize, super::universal::DriftError)> {
+        if self.form == CorrectorForm::FirstOrder {
+            let alpha = h * h / 24.0;
+            first_order_corrector(b, w, kw, jr, jv, if inverse { -alpha } else { alpha });
+            Ok(())
+        } else {
+            apply_corrector(b, w, jr, jv, self.corrector, h, inverse)
+        }
+    }
+}
+
 /// Apply the corrector C (`inverse` false) or C⁻¹ (`inverse` true) for the
 /// step `h` to a Jacobi state, with kernels Z(a_i, b_i) of the module docs.
 fn apply_corrector(
@@ -938,6 +1357,11 @@ impl Variational for WisdomHolman {
         if self.corrector != Corrector::Off {
             return Err(NbodyError::InvalidRequest(
                 "tangent vectors need the Wisdom–Holman map without a corrector".into(),
+            ));
+        }
+        if self.kick != Kick::Plain {
+            return Err(NbodyError::InvalidRequest(
+                "tangent vectors need the plain Wisdom–Holman kick".into(),
             ));
         }
         let n = self.jr.len();
@@ -1067,13 +1491,21 @@ mod tests {
     fn corrector_kernels_match_the_series() {
         // Σ_i b_i 2 a_i^{2m+1}/(2m+1)! must equal the coefficients of
         // (x/sinh x − 1)/u, x = u/2: −1/24, 7/5760, −31/967680 (series of
-        // x/sinh x = 1 − x²/6 + 7x⁴/360 − 31x⁶/15120, standard tables).
-        let c = [-1.0 / 24.0, 7.0 / 5760.0, -31.0 / 967_680.0];
-        let fact = [1.0, 6.0, 120.0];
+        // x/sinh x = 1 − x²/6 + 7x⁴/360 − 31x⁶/15120 + 127x⁸/604800,
+        // standard tables; the x⁸ term from the Bernoulli-number series
+        // Σ (2 − 2^{2n}) B_{2n} x^{2n}/(2n)! with B_8 = −1/30).
+        let c = [
+            -1.0 / 24.0,
+            7.0 / 5760.0,
+            -31.0 / 967_680.0,
+            127.0 / 154_828_800.0,
+        ];
+        let fact = [1.0, 6.0, 120.0, 5040.0];
         for corr in [
             Corrector::RemoveH2,
             Corrector::RemoveH4,
             Corrector::RemoveH6,
+            Corrector::RemoveH8,
         ] {
             let k = corr.kicks();
             for m in 0..k.len() {
@@ -1088,6 +1520,79 @@ mod tests {
                 assert!((s - c[m]).abs() < 1e-15, "{corr:?} m={m}: {s} vs {}", c[m]);
             }
         }
+    }
+
+    #[test]
+    fn modified_kick_coefficient_is_the_bch_one() {
+        // The coefficient of the modified kick, from the Baker–Campbell–
+        // Hausdorff formula (Yoshida 1990, Phys. Lett. A 150, 262): the
+        // DKD map carries (h²/12){{A,B},B}; a corrector's conjugation
+        // shifts it to h²/24 (module docs), cancelled by β = 1/12. Checked
+        // numerically against Gauss–Radau at round-off (two giants near
+        // 2:1, RemoveH8, h = 2 d, 2000 d): with β the O(ε² h²) floor
+        // vanishes; with −β the floor's coefficient doubles (error ×2);
+        // with 2β it changes sign (error ×1); with 0 it is the plain map.
+        use crate::nbody::gauss_radau::{GaussRadau, GaussRadauSettings};
+        use crate::nbody::system::{JacobiPlanet, OrbitPhase, OrbitSize};
+        use crate::units::M_JUPITER_IN_SUN;
+        let pl = |m: f64, p: f64, e: f64, w: f64, ma: f64, inc: f64, node: f64| JacobiPlanet {
+            mass: m * M_JUPITER_IN_SUN,
+            radius: 0.0,
+            size: OrbitSize::Period(p),
+            e,
+            omega_star: w,
+            phase: OrbitPhase::MeanAnomaly(ma),
+            inc,
+            node,
+        };
+        let sys = System::from_jacobi_elements(
+            0.8,
+            0.0,
+            &[
+                pl(1.5, 100.0, 0.12, 0.7, 0.2, 1.36, 0.0),
+                pl(2.5, 205.0, 0.18, 3.8, 3.5, 1.41, 0.07),
+            ],
+            0.0,
+        )
+        .unwrap();
+        let ep: Vec<f64> = (1..=200).map(|i| i as f64 * 10.0).collect();
+        let st = GaussRadauSettings {
+            tolerance: 1e-9,
+            ..GaussRadauSettings::default()
+        };
+        let mut gr = GaussRadau::new(sys.clone(), st).unwrap();
+        let mut snap = Snapshot::zeros(3, 0.0);
+        let r: Vec<f64> = ep
+            .iter()
+            .map(|&t| {
+                gr.advance_to(t, &mut snap).unwrap();
+                snap.vel[0].z
+            })
+            .collect();
+        let err = |scale: f64| {
+            let s = WhSettings {
+                step: Some(2.0),
+                corrector: Corrector::RemoveH8,
+                kick: Kick::Modified,
+                ..WhSettings::default()
+            };
+            let mut wh = WisdomHolman::new(&sys, s).unwrap();
+            assert_eq!(wh.beta, 1.0 / 12.0);
+            wh.beta *= scale;
+            let mut snap = Snapshot::zeros(3, 0.0);
+            ep.iter()
+                .zip(&r)
+                .map(|(&t, &want)| {
+                    wh.advance_to(t, &mut snap).unwrap();
+                    (snap.vel[0].z - want).abs()
+                })
+                .fold(0.0, f64::max)
+        };
+        let (e0, e1, em, e2) = (err(0.0), err(1.0), err(-1.0), err(2.0));
+        println!("β × 0: {e0:.3e}, × 1: {e1:.3e}, × −1: {em:.3e}, × 2: {e2:.3e} (au/d)");
+        assert!(e1 < e0 / 50.0);
+        assert!((1.7..2.3).contains(&(em / e0)), "−β: {}", em / e0);
+        assert!((0.8..1.2).contains(&(e2 / e0)), "2β: {}", e2 / e0);
     }
 
     #[test]

@@ -451,6 +451,7 @@ pub fn run_stability_observed(
             step: settings.step,
             corrector: Corrector::Off,
             events,
+            ..WhSettings::default()
         },
     )?;
     let h = wh.step();
@@ -553,6 +554,7 @@ pub fn run_stability_observed(
             step: Some(h),
             corrector: Corrector::Off,
             events,
+            ..WhSettings::default()
         });
         let m = megno_run(system, integ, settings.orbits, &MegnoSettings::default())
             .map_err(|e| StabilityError::Megno(e.to_string()))?;
