@@ -1,9 +1,11 @@
 //! Stability speed: ns per Wisdom–Holman step without and with tangent
 //! vectors (2 and 3 planets; the ratio is the cost of the variational
 //! equations), and a MEGNO run of the two-giant benchmark system of
-//! benches/nbody_wh.rs (0.8 M☉ star, P = 100 d and 205 d, step 2 d =
-//! P₁/50) over 1000 inner orbits, from which the time for 10⁶ inner orbits
-//! is extrapolated (the cost is linear in the length).
+//! benches/nbody_wh.rs (0.8 M☉ star, P = 100 d and 205 d) over 1000 inner
+//! orbits at three steps: 2 d = P₁/50, the integrator's default step
+//! (≈ 4.07 d) and twice it (the MEGNO default step of
+//! `stability::megno`), from which the time for 10⁶ inner orbits is
+//! extrapolated (the cost is linear in the length).
 //!
 //! CPU time of the benchmarking thread, as in benches/nbody_wh.rs (the
 //! build machine is shared).
@@ -118,10 +120,25 @@ fn megno_two_giants(c: &mut Criterion<CpuTime>) {
         .measurement_time(Duration::from_secs(3));
     // 1000 inner orbits = 1000 × 100 d / 205 d outer orbits.
     let outer = 1000.0 * 100.0 / 205.0;
-    let integ = VariationalIntegrator::WisdomHolman(settings());
-    g.bench_function("wh_step_2d_1000_inner_orbits", |b| {
-        b.iter(|| megno_run(black_box(&sys), integ, outer, &MegnoSettings::default()).unwrap())
-    });
+    // The integrator's default step (≈ 4.07 d = P₁/24.6) and twice it
+    // (the MEGNO default step, stability::megno), given explicitly so
+    // that every build runs the same steps.
+    let h0 = WisdomHolman::new(&sys, WhSettings::default())
+        .unwrap()
+        .step();
+    for (name, h) in [
+        ("wh_step_2d", 2.0),
+        ("default_step", h0),
+        ("twice_default_step", 2.0 * h0),
+    ] {
+        let integ = VariationalIntegrator::WisdomHolman(WhSettings {
+            step: Some(h),
+            ..settings()
+        });
+        g.bench_function(format!("{name}_1000_inner_orbits"), |b| {
+            b.iter(|| megno_run(black_box(&sys), integ, outer, &MegnoSettings::default()).unwrap())
+        });
+    }
     g.finish();
 }
 

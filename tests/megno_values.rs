@@ -121,3 +121,70 @@ fn wide_pair_regular_with_gauss_radau() {
     assert_eq!(r.classification, Classification::Regular);
     assert_eq!(w.classification, Classification::Regular);
 }
+
+/// The wide pair with an eccentric inner planet (e = 0.3), invented.
+fn eccentric_wide_pair() -> System {
+    System::from_jacobi_elements(
+        1.0,
+        0.0,
+        &[
+            planet(1e-3, 200.0, 0.3, 0.3, 0.0),
+            planet(3e-4, 1400.0, 0.05, 2.0, 2.5),
+        ],
+        0.0,
+    )
+    .unwrap()
+}
+
+#[test]
+fn megno_step_keeps_the_verdicts() {
+    // The MEGNO default step (twice the integrator's default,
+    // stability::megno "Step of the Wisdom–Holman map") against the
+    // integrator's default step: same verdicts, regular values within
+    // 2e-3 (the module's table: 0.0002 and 0.0008 apart at 10⁴ inner
+    // orbits; Gauss–Radau, the independent reference, gives the same
+    // verdicts and differs from both steps by more, 0.0004 and 0.01).
+    use apsidal::nbody::wisdom_holman::WisdomHolman;
+    use apsidal::stability::megno::{MEGNO_STEP_FACTOR, megno_step};
+    for (name, sys, outer, verdict) in [
+        ("wide", wide_pair(), 1e4 / 7.0, Classification::Regular),
+        (
+            "eccentric",
+            eccentric_wide_pair(),
+            1e4 / 7.0,
+            Classification::Regular,
+        ),
+        ("packed", packed_pair(), 300.0, Classification::Chaotic),
+    ] {
+        let h0 = WisdomHolman::new(&sys, WhSettings::default())
+            .unwrap()
+            .step();
+        let h = megno_step(&sys).unwrap();
+        assert_eq!(h, MEGNO_STEP_FACTOR * h0);
+        let at = |step: Option<f64>| {
+            let integ = VariationalIntegrator::WisdomHolman(WhSettings {
+                step,
+                events: quiet(),
+                ..WhSettings::default()
+            });
+            megno_run(&sys, integ, outer, &MegnoSettings::default()).unwrap()
+        };
+        let (fine, unset, coarse) = (at(Some(h0)), at(None), at(Some(h)));
+        eprintln!(
+            "{name}: <Y> = {} at the default step {h0:.3} d, {} at the MEGNO step {h:.3} d",
+            fine.mean_y, coarse.mean_y
+        );
+        // Unset step = the MEGNO step.
+        assert_eq!(unset, coarse, "{name}");
+        assert_eq!(fine.classification, verdict, "{name}");
+        assert_eq!(coarse.classification, verdict, "{name}");
+        if verdict == Classification::Regular {
+            assert!(
+                (fine.mean_y - coarse.mean_y).abs() < 2e-3,
+                "{name}: {} vs {}",
+                fine.mean_y,
+                coarse.mean_y
+            );
+        }
+    }
+}

@@ -846,7 +846,7 @@ impl DriftTangent {
 
     /// Map one tangent vector (δr₀ in au, δv₀ in au/day) in place to its
     /// value after the drift.
-    #[inline]
+    #[inline(always)]
     pub fn apply(&self, dr: &mut Vector3<f64>, dv: &mut Vector3<f64>) {
         if self.identity {
             return;
@@ -900,7 +900,7 @@ pub fn drift_tangent_map(
 /// found by [`f_and_g`] or [`f_and_g_lanes`] with the same arguments. The
 /// G-functions, β and the distances are those of the solver (no second
 /// Stumpff evaluation); G₄ and G₅ are added by their series.
-#[inline]
+#[inline(always)]
 pub fn drift_tangent_from(
     pos: &Vector3<f64>,
     vel: &Vector3<f64>,
@@ -939,8 +939,11 @@ pub fn drift_tangent_from(
         // δ(−nP) = −n δP = −n (−3/2) (P/β) δβ.
         turn = 1.5 * n * period / beta;
     }
-    let inv_r0 = 1.0 / r0;
-    let inv_r = 1.0 / r;
+    // One division for both reciprocals (r₀ r is far from overflow:
+    // distances in au).
+    let inv_rr = 1.0 / (r0 * r);
+    let inv_r0 = r * inv_rr;
+    let inv_r = r0 * inv_rr;
     Ok(DriftTangent {
         r0v,
         v0v,
@@ -951,7 +954,7 @@ pub fn drift_tangent_from(
         beta_r0: -2.0 * mu * inv_r0 * inv_r0,
         f_g2: -mu * inv_r0,
         f_r0: mu * g2 * inv_r0 * inv_r0,
-        fdot_g1: -mu * inv_r0 * inv_r,
+        fdot_g1: -mu * inv_rr,
         gdot_g2: -mu * inv_r,
         gdot_r: mu * g2 * inv_r * inv_r,
         f: fg.f,

@@ -1352,6 +1352,55 @@ fn apply_corrector(
     Ok(())
 }
 
+/// A tangent vector as the map carries it: Jacobi δr' (au) and δv'
+/// (au/day), entry 0 the centre of mass ([`WisdomHolman::map_tangent`]).
+pub type MapTangent<'a> = (&'a [Vector3<f64>], &'a [Vector3<f64>]);
+
+/// Tangent vectors at the map's own phase, without outputs (for MEGNO).
+impl WisdomHolman {
+    /// Take whole main steps forwards until the next boundary would pass
+    /// `t` (the steps [`Integrator::advance_to`] takes, with their events,
+    /// tangent maps and checks), without producing an output: no partial
+    /// step, and the pending half drift is not finished. Afterwards
+    /// [`WisdomHolman::map_tangent`] gives the tangent vectors at the
+    /// map's phase and [`Integrator::time`] the boundary reached. `t`
+    /// before the current boundary is refused.
+    pub fn advance_steps_to(&mut self, t: f64) -> Result<(), NbodyError> {
+        if !t.is_finite() || t < self.time() {
+            return Err(NbodyError::InvalidRequest(format!(
+                "whole steps go forwards to a finite time, got {t} at {}",
+                self.time()
+            )));
+        }
+        if self.lag < 0.0 {
+            self.synchronise()?;
+        }
+        while self.t0 + (self.steps as f64 + 1.0) * self.step <= t {
+            self.one_step(self.step)?;
+        }
+        Ok(())
+    }
+
+    /// Tangent vector `i` (0-based; `None` beyond [`Variational::tangent_count`])
+    /// as the map carries it, in Jacobi coordinates (δr'_k in au, δv'_k in
+    /// au/day; entry 0 the centre of mass): after the kick of the last
+    /// step, half a drift before the boundary [`Integrator::time`] (at the
+    /// boundary itself before any step). The tangent map of the fused
+    /// drift–kick sequence is that of the map conjugated by the half drift,
+    /// so growth rates measured here are those of the map (its tangent
+    /// vectors differ from the boundary ones by the bounded half-drift
+    /// tangent map and the fixed Jacobi transformation).
+    pub fn map_tangent(&self, i: usize) -> Option<MapTangent<'_>> {
+        let n = self.jr.len();
+        (i < self.tan.ntan).then(|| {
+            (
+                &self.tan.r[i * n..(i + 1) * n],
+                &self.tan.v[i * n..(i + 1) * n],
+            )
+        })
+    }
+}
+
 impl Variational for WisdomHolman {
     fn set_tangents(&mut self, tangents: &[Tangent]) -> Result<(), NbodyError> {
         if self.corrector != Corrector::Off {
