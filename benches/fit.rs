@@ -162,6 +162,7 @@ fn bench_fit(c: &mut Criterion) {
                 step,
                 corrector: Corrector::Off,
                 events: EventSettings::default(),
+                ..WhSettings::default()
             },
         )
         .expect("wh");

@@ -671,6 +671,7 @@ fn sample_both_ways(
                 step,
                 corrector,
                 events,
+                ..WhSettings::default()
             };
             let mut wh = WisdomHolman::new(system, settings)?;
             sample_into(&mut wh, times_d, fwd, sampler, &mut snap, out)?;
