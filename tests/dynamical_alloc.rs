@@ -3,8 +3,7 @@
 //! allocator: a conservation-style check of our own code, no external
 //! reference needed.
 
-use std::alloc::{GlobalAlloc, Layout, System as SysAlloc};
-use std::cell::Cell;
+mod alloc_support;
 use std::f64::consts::FRAC_PI_2;
 
 use apsidal::model::dynamical::{
@@ -12,34 +11,7 @@ use apsidal::model::dynamical::{
 };
 use apsidal::nbody::wisdom_holman::Corrector;
 
-struct Counting;
-
-thread_local! {
-    // Allocations made by this thread (the test harness allocates on its
-    // own threads meanwhile; those are not ours).
-    static ALLOCS: Cell<usize> = const { Cell::new(0) };
-}
-
-fn count() -> usize {
-    ALLOCS.with(|c| c.get())
-}
-
-unsafe impl GlobalAlloc for Counting {
-    unsafe fn alloc(&self, l: Layout) -> *mut u8 {
-        ALLOCS.with(|c| c.set(c.get() + 1));
-        unsafe { SysAlloc.alloc(l) }
-    }
-    unsafe fn dealloc(&self, p: *mut u8, l: Layout) {
-        unsafe { SysAlloc.dealloc(p, l) }
-    }
-    unsafe fn realloc(&self, p: *mut u8, l: Layout, n: usize) -> *mut u8 {
-        ALLOCS.with(|c| c.set(c.get() + 1));
-        unsafe { SysAlloc.realloc(p, l, n) }
-    }
-}
-
-#[global_allocator]
-static GLOBAL: Counting = Counting;
+use alloc_support::count;
 
 #[test]
 fn repeated_evaluations_do_not_allocate() {

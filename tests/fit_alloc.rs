@@ -6,42 +6,14 @@
 //! reference needed. The values are checked against a fresh evaluation on
 //! another thread (fresh buffers): the same to the bit.
 
-use std::alloc::{GlobalAlloc, Layout, System as SysAlloc};
-use std::cell::Cell;
+mod alloc_support;
 
 mod injection_support;
 
 use apsidal::fit::models::{ModelKind, RvModel, TrendKind, default_parameters};
 use injection_support as inj;
 
-struct Counting;
-
-thread_local! {
-    // Allocations made by this thread (the harness allocates on its own
-    // threads meanwhile; those are not ours).
-    static ALLOCS: Cell<usize> = const { Cell::new(0) };
-}
-
-fn count() -> usize {
-    ALLOCS.with(|c| c.get())
-}
-
-unsafe impl GlobalAlloc for Counting {
-    unsafe fn alloc(&self, l: Layout) -> *mut u8 {
-        ALLOCS.with(|c| c.set(c.get() + 1));
-        unsafe { SysAlloc.alloc(l) }
-    }
-    unsafe fn dealloc(&self, p: *mut u8, l: Layout) {
-        unsafe { SysAlloc.dealloc(p, l) }
-    }
-    unsafe fn realloc(&self, p: *mut u8, l: Layout, n: usize) -> *mut u8 {
-        ALLOCS.with(|c| c.set(c.get() + 1));
-        unsafe { SysAlloc.realloc(p, l, n) }
-    }
-}
-
-#[global_allocator]
-static GLOBAL: Counting = Counting;
+use alloc_support::count;
 
 #[test]
 fn repeated_dynamical_ln_likelihood_does_not_allocate() {
