@@ -75,7 +75,7 @@ pub fn jacobi_to_inertial(
 /// [`inertial_to_jacobi`] with the reciprocals `inv_interior[k]` = 1/M_k
 /// precomputed (multiplications instead of divisions; for integrator
 /// kicks). Agrees with it to rounding.
-#[inline]
+#[inline(always)]
 pub fn inertial_to_jacobi_with(
     masses: &[f64],
     inv_interior: &[f64],
@@ -95,7 +95,7 @@ pub fn inertial_to_jacobi_with(
 /// [`jacobi_to_inertial`] with the ratios `ratio[k]` = m_k/M_k
 /// precomputed; bit-for-bit the same result when `ratio[k]` is
 /// `masses[k] / interior[k]`.
-#[inline]
+#[inline(always)]
 pub fn jacobi_to_inertial_with(ratio: &[f64], jac: &[Vector3<f64>], x: &mut [Vector3<f64>]) {
     let n = jac.len();
     debug_assert!(n >= 1 && x.len() == n && ratio.len() == n);
