@@ -223,6 +223,21 @@ pub fn f_and_g_with(
     guess: Option<f64>,
     elliptic: bool,
 ) -> Result<FandG, DriftError> {
+    f_and_g_inlined(pos, vel, mu, dt, guess, elliptic)
+}
+
+/// The body of [`f_and_g_with`], inlined into [`kepler_drift`] so that the
+/// drift keeps f and g in registers instead of returning the whole
+/// [`FandG`] through memory.
+#[inline(always)]
+fn f_and_g_inlined(
+    pos: &Vector3<f64>,
+    vel: &Vector3<f64>,
+    mu: f64,
+    dt: f64,
+    guess: Option<f64>,
+    elliptic: bool,
+) -> Result<FandG, DriftError> {
     let mut st = match solve_setup(pos, vel, mu, dt) {
         Setup::Done(r) => return r,
         Setup::Iterate(st) => st,
@@ -703,7 +718,7 @@ fn compensated_beta(pos: &Vector3<f64>, vel: &Vector3<f64>, mu: f64) -> f64 {
 /// the same size). On error the state is left unchanged.
 ///
 /// Allocation-free.
-#[inline]
+#[inline(never)]
 pub fn kepler_drift(
     pos: &mut Vector3<f64>,
     vel: &mut Vector3<f64>,
@@ -711,7 +726,7 @@ pub fn kepler_drift(
     dt: f64,
     guess: Option<f64>,
 ) -> Result<f64, DriftError> {
-    let fg = f_and_g(pos, vel, mu, dt, guess)?;
+    let fg = f_and_g_inlined(pos, vel, mu, dt, guess, true)?;
     let p = *pos * fg.f + *vel * fg.g;
     let v = *pos * fg.fdot + *vel * fg.gdot;
     *pos = p;

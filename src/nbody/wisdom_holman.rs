@@ -285,18 +285,22 @@ struct Bodies {
 /// How the Kepler drifts of the planets in one Wisdom–Holman drift are
 /// solved. `Scalar` and `Interleaved` give bitwise the same state (the
 /// lanes run the scalar solver's operations; tested), so they only change
-/// the speed; `Universal` differs from them at rounding level. The
-/// interleaved solve measured no faster within a whole step
-/// (BENCHMARKS.md, N-body), so the simpler scalar path is the default.
+/// the speed; `Universal` differs from them at rounding level. Since the
+/// kick was specialised by system size the drifts are most of a step's
+/// time, and their chains of dependent operations are what the interleaved
+/// solve overlaps: it is the default (2-planet step 317 → 300 ns, 3 planets
+/// 458 → 401 ns, 5 planets 821 → 749 ns, best of 12 alternating runs;
+/// BENCHMARKS.md).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum DriftKernel {
     /// Up to four planets at a time by
-    /// [`super::universal::f_and_g_lanes`], their iterations interleaved.
+    /// [`super::universal::f_and_g_lanes`], their iterations interleaved
+    /// (the default).
+    #[default]
     Interleaved,
     /// One planet after the other by [`super::universal::f_and_g`]: bound
     /// orbits by Kepler's equation in ΔE (`nbody::elliptic`), others by
-    /// universal variables (the default).
-    #[default]
+    /// universal variables.
     Scalar,
     /// One planet after the other, every orbit by the universal-variable
     /// iteration alone: the reference the ΔE solver is measured against.
@@ -309,17 +313,16 @@ struct Work {
     pos: Vec<Vector3<f64>>,
     acc: Vec<Vector3<f64>>,
     jacc: Vec<Vector3<f64>>,
-    /// When true (tangent vectors carried) the kick keeps its geometry for
-    /// the tangent kick: per pair i < j (row-major n×n) d = x_j − x_i,
-    /// 1/d³ and 3/d²; per planet μ_k/r'³ and 3/r'².
+    /// When true (tangent vectors carried) the kick keeps its geometry in
+    /// `geo` for the tangent kick.
     save: bool,
-    pair: Vec<(Vector3<f64>, f64, f64)>,
-    kep: Vec<(f64, f64)>,
+    /// The pair geometry of the last force evaluation that kept it (every
+    /// kick when `save`, and [`interaction`]).
+    geo: Geometry,
 }
 
 /// Work of the modified kick and of the first-order corrector: the Jacobi
-/// kick accelerations, the pair geometry of the last force evaluation and
-/// the buffers of one tidal-tensor product.
+/// kick accelerations and the buffers of one tidal-tensor product.
 #[derive(Debug, Clone, Default)]
 struct KernelWork {
     /// Jacobi interaction accelerations a_k = (A a)_k + μ_k r'_k/r'_k³
@@ -327,7 +330,6 @@ struct KernelWork {
     a: Vec<Vector3<f64>>,
     /// Result of a tidal-tensor product (Jacobi).
     t: Vec<Vector3<f64>>,
-    geo: Geometry,
     scratch: TidalScratch,
 }
 
@@ -360,10 +362,6 @@ impl KernelWork {
             v.clear();
             v.resize(n, z);
         }
-        self.geo.pair.clear();
-        self.geo.pair.resize(n * n, (z, 0.0, 0.0));
-        self.geo.kep.clear();
-        self.geo.kep.resize(n, (0.0, 0.0));
     }
 }
 
@@ -439,8 +437,10 @@ impl WisdomHolman {
                 acc: z.clone(),
                 jacc: z.clone(),
                 save: false,
-                pair: vec![(Vector3::zeros(), 0.0, 0.0); n * n],
-                kep: vec![(0.0, 0.0); n],
+                geo: Geometry {
+                    pair: vec![(Vector3::zeros(), 0.0, 0.0); n * n],
+                    kep: vec![(0.0, 0.0); n],
+                },
             },
             tan: Tangents::default(),
             jr: z.clone(),
@@ -502,8 +502,8 @@ impl WisdomHolman {
         ] {
             v.resize(n, z);
         }
-        self.w.pair.resize(n * n, (z, 0.0, 0.0));
-        self.w.kep.resize(n, (0.0, 0.0));
+        self.w.geo.pair.resize(n * n, (z, 0.0, 0.0));
+        self.w.geo.kep.resize(n, (0.0, 0.0));
         self.w.save = false;
         self.kw.resize(n);
         let b = &mut self.b;
@@ -1058,7 +1058,7 @@ fn kick_tan(b: &Bodies, w: &Work, tn: &mut Tangents, scratch: bool, jr: &[Vector
         }
         for i in 0..n {
             for j in (i + 1)..n {
-                let (d, inv_r3, three_r2) = w.pair[i * n + j];
+                let (d, inv_r3, three_r2) = w.geo.pair[i * n + j];
                 let dd = dpos[j] - dpos[i];
                 let t = (dd - d * (three_r2 * d.dot(&dd))) * inv_r3;
                 dacc[i] += t * b.gm[j];
@@ -1080,7 +1080,7 @@ fn kick_tan(b: &Bodies, w: &Work, tn: &mut Tangents, scratch: bool, jr: &[Vector
         for k in 1..n {
             let rk = jr[k];
             let dr = r[k];
-            let (mu_r3, three_r2) = w.kep[k];
+            let (mu_r3, three_r2) = w.geo.kep[k];
             let da = tn.djacc[k] + (dr - rk * (three_r2 * rk.dot(&dr))) * mu_r3;
             v[k] += da * h;
         }
@@ -1110,9 +1110,7 @@ fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], 
     }
 }
 
-/// [`kick`] for `n` bodies: every buffer is cut to `n` entries first, so
-/// that with `n` a constant (inlined from the dispatch) the compiler sees
-/// every index in range.
+/// [`kick`] for `n` bodies (see [`interaction_sized`]).
 #[inline(always)]
 fn kick_sized(
     b: &Bodies,
@@ -1122,7 +1120,29 @@ fn kick_sized(
     h: f64,
     n: usize,
 ) {
-    let (jr, jv) = (&jr[..n], &mut jv[..n]);
+    let jv = &mut jv[..n];
+    let save = w.save;
+    interaction_sized(b, w, jr, n, save, |k, a| jv[k] += a * h);
+}
+
+/// The Jacobi interaction accelerations a_k = (A a)_k + μ_k r'_k/r'_k³
+/// (au/d²) of `n` bodies at the Jacobi positions `jr` (module docs), each
+/// handed to `each(k, a_k)` for k = 1..n in order; the inertial positions
+/// are left in `w.pos` (for events and the tangent kick) and, when `save`,
+/// the pair geometry in `w.geo` (per pair i < j d = x_j − x_i, 1/d³, 3/d²;
+/// per planet μ_k/r'³, 3/r'²). Every buffer is cut to `n` entries first,
+/// so that with `n` a constant (inlined from a dispatch on the system
+/// size) the compiler sees every index in range.
+#[inline(always)]
+fn interaction_sized(
+    b: &Bodies,
+    w: &mut Work,
+    jr: &[Vector3<f64>],
+    n: usize,
+    save: bool,
+    mut each: impl FnMut(usize, Vector3<f64>),
+) {
+    let jr = &jr[..n];
     let (masses, gm, mu) = (&b.masses[..n], &b.gm[..n], &b.mu[..n]);
     let (pos, acc, jacc) = (&mut w.pos[..n], &mut w.acc[..n], &mut w.jacc[..n]);
     jacobi::jacobi_to_inertial_with(&b.ratio[..n], jr, pos);
@@ -1136,8 +1156,8 @@ fn kick_sized(
             let inv_r3 = 1.0 / (r2 * r2.sqrt());
             acc[i] += d * (gm[j] * inv_r3);
             acc[j] -= d * (gm[i] * inv_r3);
-            if w.save {
-                w.pair[i * n + j] = (d, inv_r3, 3.0 / r2);
+            if save {
+                w.geo.pair[i * n + j] = (d, inv_r3, 3.0 / r2);
             }
         }
     }
@@ -1157,10 +1177,9 @@ fn kick_sized(
         let r = jr[k];
         let r2 = r.norm_squared();
         let mu_r3 = mu[k] / (r2 * r2.sqrt());
-        let a = jacc[k] + r * mu_r3;
-        jv[k] += a * h;
-        if w.save {
-            w.kep[k] = (mu_r3, 3.0 / r2);
+        each(k, jacc[k] + r * mu_r3);
+        if save {
+            w.geo.kep[k] = (mu_r3, 3.0 / r2);
         }
     }
 }
@@ -1187,43 +1206,23 @@ fn any_kick(
 /// Jacobi interaction accelerations a_k = (A a)_k + μ_k r'_k/r'_k³ (au/d²)
 /// at the Jacobi positions `jr` into `kw.a` (entry 0 zero), the inertial
 /// positions into `w.pos` (for events) and the pair geometry into
-/// `kw.geo`: the force part of [`kick`].
+/// `w.geo`: [`interaction_sized`], dispatched on the system size like
+/// [`kick`].
 #[inline]
 fn interaction(b: &Bodies, w: &mut Work, kw: &mut KernelWork, jr: &[Vector3<f64>]) {
-    let n = jr.len();
-    jacobi::jacobi_to_inertial_with(&b.ratio, jr, &mut w.pos);
-    let pos = &w.pos;
-    let acc = &mut w.acc;
-    for a in acc.iter_mut() {
-        *a = Vector3::zeros();
-    }
-    for i in 0..n {
-        for j in (i + 1)..n {
-            let d = pos[j] - pos[i];
-            let r2 = d.norm_squared();
-            let inv_r3 = 1.0 / (r2 * r2.sqrt());
-            acc[i] += d * (b.gm[j] * inv_r3);
-            acc[j] -= d * (b.gm[i] * inv_r3);
-            kw.geo.pair[i * n + j] = (d, inv_r3, 3.0 / r2);
-        }
-    }
-    if b.pn != 0.0 {
-        let m0 = b.masses[0];
-        for k in 1..n {
-            let d = pos[k] - pos[0];
-            let r2 = d.norm_squared();
-            let f = d * (b.pn / (r2 * r2));
-            acc[k] -= f;
-            acc[0] += f * (b.masses[k] / m0);
-        }
-    }
-    jacobi::inertial_to_jacobi_with(&b.masses, &b.inv_interior, acc, &mut w.jacc);
-    kw.a[0] = Vector3::zeros();
-    for (k, &r) in jr.iter().enumerate().skip(1) {
-        let r2 = r.norm_squared();
-        let mu_r3 = b.mu[k] / (r2 * r2.sqrt());
-        kw.a[k] = w.jacc[k] + r * mu_r3;
-        kw.geo.kep[k] = (mu_r3, 3.0 / r2);
+    let a = &mut kw.a;
+    a[0] = Vector3::zeros();
+    let mut put = |k: usize, ak: Vector3<f64>| a[k] = ak;
+    match jr.len() {
+        2 => interaction_sized(b, w, jr, 2, true, &mut put),
+        3 => interaction_sized(b, w, jr, 3, true, &mut put),
+        4 => interaction_sized(b, w, jr, 4, true, &mut put),
+        5 => interaction_sized(b, w, jr, 5, true, &mut put),
+        6 => interaction_sized(b, w, jr, 6, true, &mut put),
+        7 => interaction_sized(b, w, jr, 7, true, &mut put),
+        8 => interaction_sized(b, w, jr, 8, true, &mut put),
+        9 => interaction_sized(b, w, jr, 9, true, &mut put),
+        n => interaction_sized(b, w, jr, n, true, &mut put),
     }
 }
 
@@ -1245,45 +1244,75 @@ fn tidal_product(
     s: &mut TidalScratch,
     out: &mut [Vector3<f64>],
 ) {
-    let n = jr.len();
+    match jr.len() {
+        2 => tidal_product_sized(b, pos, geo, jr, src, s, out, 2),
+        3 => tidal_product_sized(b, pos, geo, jr, src, s, out, 3),
+        4 => tidal_product_sized(b, pos, geo, jr, src, s, out, 4),
+        5 => tidal_product_sized(b, pos, geo, jr, src, s, out, 5),
+        6 => tidal_product_sized(b, pos, geo, jr, src, s, out, 6),
+        7 => tidal_product_sized(b, pos, geo, jr, src, s, out, 7),
+        8 => tidal_product_sized(b, pos, geo, jr, src, s, out, 8),
+        9 => tidal_product_sized(b, pos, geo, jr, src, s, out, 9),
+        n => tidal_product_sized(b, pos, geo, jr, src, s, out, n),
+    }
+}
+
+/// [`tidal_product`] for `n` bodies, every buffer cut to `n` (or n²)
+/// entries first as in [`interaction_sized`].
+#[allow(clippy::too_many_arguments)]
+#[inline(always)]
+fn tidal_product_sized(
+    b: &Bodies,
+    pos: &[Vector3<f64>],
+    geo: &Geometry,
+    jr: &[Vector3<f64>],
+    src: &[Vector3<f64>],
+    s: &mut TidalScratch,
+    out: &mut [Vector3<f64>],
+    n: usize,
+) {
+    let (pos, jr, src, out) = (&pos[..n], &jr[..n], &src[..n], &mut out[..n]);
+    let (masses, gm) = (&b.masses[..n], &b.gm[..n]);
+    let (pair, kep) = (&geo.pair[..n * n], &geo.kep[..n]);
+    let (dpos, dacc, djacc) = (&mut s.dpos[..n], &mut s.dacc[..n], &mut s.djacc[..n]);
     let first = src[0];
-    jacobi::jacobi_to_inertial_with(&b.ratio, src, &mut s.dpos);
+    jacobi::jacobi_to_inertial_with(&b.ratio[..n], src, dpos);
     // The centre-of-mass entry only translates every body: drop it.
     if first != Vector3::zeros() {
-        for x in s.dpos.iter_mut() {
+        for x in dpos.iter_mut() {
             *x -= first;
         }
     }
-    for a in s.dacc.iter_mut() {
+    for a in dacc.iter_mut() {
         *a = Vector3::zeros();
     }
     for i in 0..n {
         for j in (i + 1)..n {
-            let (d, inv_r3, three_r2) = geo.pair[i * n + j];
-            let dd = s.dpos[j] - s.dpos[i];
+            let (d, inv_r3, three_r2) = pair[i * n + j];
+            let dd = dpos[j] - dpos[i];
             let t = (dd - d * (three_r2 * d.dot(&dd))) * inv_r3;
-            s.dacc[i] += t * b.gm[j];
-            s.dacc[j] -= t * b.gm[i];
+            dacc[i] += t * gm[j];
+            dacc[j] -= t * gm[i];
         }
     }
     if b.pn != 0.0 {
-        let m0 = b.masses[0];
+        let m0 = masses[0];
         for k in 1..n {
             let d = pos[k] - pos[0];
-            let dd = s.dpos[k] - s.dpos[0];
+            let dd = dpos[k] - dpos[0];
             let r2 = d.norm_squared();
             let df = (dd - d * (4.0 * d.dot(&dd) / r2)) * (b.pn / (r2 * r2));
-            s.dacc[k] -= df;
-            s.dacc[0] += df * (b.masses[k] / m0);
+            dacc[k] -= df;
+            dacc[0] += df * (masses[k] / m0);
         }
     }
-    jacobi::inertial_to_jacobi_with(&b.masses, &b.inv_interior, &s.dacc, &mut s.djacc);
+    jacobi::inertial_to_jacobi_with(masses, &b.inv_interior[..n], dacc, djacc);
     out[0] = Vector3::zeros();
     for k in 1..n {
         let rk = jr[k];
         let dr = src[k];
-        let (mu_r3, three_r2) = geo.kep[k];
-        out[k] = s.djacc[k] + (dr - rk * (three_r2 * rk.dot(&dr))) * mu_r3;
+        let (mu_r3, three_r2) = kep[k];
+        out[k] = djacc[k] + (dr - rk * (three_r2 * rk.dot(&dr))) * mu_r3;
     }
 }
 
@@ -1303,8 +1332,8 @@ fn modified_kick(
     beta: f64,
 ) {
     interaction(b, w, kw, jr);
-    let KernelWork { a, t, geo, scratch } = kw;
-    tidal_product(b, &w.pos, geo, jr, a, scratch, t);
+    let KernelWork { a, t, scratch } = kw;
+    tidal_product(b, &w.pos, &w.geo, jr, a, scratch, t);
     let c = beta * h * h;
     for k in 1..jr.len() {
         jv[k] += (a[k] + t[k] * c) * h;
@@ -1330,8 +1359,8 @@ fn first_order_corrector(
         return;
     }
     interaction(b, w, kw, jr);
-    let KernelWork { a, t, geo, scratch } = kw;
-    tidal_product(b, &w.pos, geo, jr, jv, scratch, t);
+    let KernelWork { a, t, scratch } = kw;
+    tidal_product(b, &w.pos, &w.geo, jr, jv, scratch, t);
     for k in 1..jr.len() {
         jr[k] -= a[k] * alpha;
         jv[k] += t[k] * alpha;
