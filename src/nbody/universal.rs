@@ -328,6 +328,42 @@ pub fn f_and_g_lanes<const L: usize>(
     out
 }
 
+/// Positions and velocities of `L` orbits.
+pub(crate) type LaneStates<const L: usize> = ([Vector3<f64>; L], [Vector3<f64>; L]);
+
+/// The drifted states (r, v) of `L` independent orbits by the same `dt`,
+/// when every lane is a bound orbit that the ΔE solver of
+/// [`super::elliptic`] takes (the common case of a Wisdom–Holman drift);
+/// `None` otherwise, and the caller then uses [`f_and_g_lanes`]. Each lane
+/// runs exactly the operations of [`f_and_g`] followed by
+/// r = f r₀ + g v₀, v = ḟ r₀ + ġ v₀, so the states are bitwise those of
+/// [`kepler_drift`]; only f, g, ḟ and ġ are kept, so nothing else of
+/// [`FandG`] passes through memory.
+#[inline(always)]
+pub(crate) fn drift_bound_lanes<const L: usize>(
+    pos: &[Vector3<f64>; L],
+    vel: &[Vector3<f64>; L],
+    mu: &[f64; L],
+    dt: f64,
+) -> Option<LaneStates<L>> {
+    let mut orbits = [BoundOrbit::FILLER; L];
+    for l in 0..L {
+        match solve_setup(&pos[l], &vel[l], mu[l], dt) {
+            Setup::Iterate(st) if st.bound => orbits[l] = st.orbit(),
+            _ => return None,
+        }
+    }
+    let fg = f_and_g_elliptic(&orbits);
+    let mut r = [Vector3::zeros(); L];
+    let mut v = [Vector3::zeros(); L];
+    for l in 0..L {
+        let g = fg[l]?;
+        r[l] = pos[l] * g.f + vel[l] * g.g;
+        v[l] = pos[l] * g.fdot + vel[l] * g.gdot;
+    }
+    Some((r, v))
+}
+
 /// State of one universal Kepler equation being solved: the constants of
 /// the orbit, the bracket [lo, hi] of the root and the current iterate s.
 #[derive(Debug, Clone, Copy, Default)]

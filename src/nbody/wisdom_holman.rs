@@ -149,7 +149,8 @@ use super::integrator::Integrator;
 use super::jacobi;
 use super::system::{Snapshot, System};
 use super::universal::{
-    DriftError, FandG, drift_tangent_from, f_and_g_lanes, f_and_g_with, kepler_drift,
+    DriftError, FandG, drift_bound_lanes, drift_tangent_from, f_and_g_lanes, f_and_g_with,
+    kepler_drift,
 };
 use super::variational::{Tangent, Variational};
 use crate::kepler::state_to_elements;
@@ -947,13 +948,35 @@ fn drift_all(
             1 => {
                 kepler_drift(&mut jr[k], &mut jv[k], b.mu[k], dt, None).map_err(|e| (k, e))?;
             }
-            2 => drift_lanes::<2>(b, jr, jv, k, dt, |_, _, _| Ok(()))?,
-            3 => drift_lanes::<3>(b, jr, jv, k, dt, |_, _, _| Ok(()))?,
-            _ => drift_lanes::<4>(b, jr, jv, k, dt, |_, _, _| Ok(()))?,
+            2 => drift_states::<2>(b, jr, jv, k, dt)?,
+            3 => drift_states::<3>(b, jr, jv, k, dt)?,
+            _ => drift_states::<4>(b, jr, jv, k, dt)?,
         }
         k += left.min(4);
     }
     Ok(())
+}
+
+/// Kepler drifts of planets `k..k + L` by `dt`, solved together: by
+/// [`drift_bound_lanes`] when every planet is a bound orbit the ΔE solver
+/// takes, else by [`drift_lanes`] (bitwise the same states either way).
+#[inline(always)]
+fn drift_states<const L: usize>(
+    b: &Bodies,
+    jr: &mut [Vector3<f64>],
+    jv: &mut [Vector3<f64>],
+    k: usize,
+    dt: f64,
+) -> Result<(), (usize, DriftError)> {
+    let pos: [Vector3<f64>; L] = std::array::from_fn(|l| jr[k + l]);
+    let vel: [Vector3<f64>; L] = std::array::from_fn(|l| jv[k + l]);
+    let mu: [f64; L] = std::array::from_fn(|l| b.mu[k + l]);
+    if let Some((r, v)) = drift_bound_lanes(&pos, &vel, &mu, dt) {
+        jr[k..k + L].copy_from_slice(&r);
+        jv[k..k + L].copy_from_slice(&v);
+        return Ok(());
+    }
+    drift_lanes::<L>(b, jr, jv, k, dt, |_, _, _| Ok(()))
 }
 
 /// Kepler drifts of planets `k..k + L` by `dt`, solved together by
