@@ -261,6 +261,51 @@ fn kick_beta(kick: Kick, corrector: Corrector) -> f64 {
     }
 }
 
+/// `$body` with `$k` bound to the system size `$n`: a literal for 2–9
+/// bodies (eight planets), so that the `#[inline(always)]` sized functions
+/// called in `$body` get one copy per size with every loop bound a
+/// constant (unrolled, index checks folded; the same operations, so
+/// bitwise the same results), and the runtime value beyond.
+macro_rules! by_size {
+    ($n:expr, |$k:ident| $body:expr) => {
+        match $n {
+            2 => {
+                let $k = 2;
+                $body
+            }
+            3 => {
+                let $k = 3;
+                $body
+            }
+            4 => {
+                let $k = 4;
+                $body
+            }
+            5 => {
+                let $k = 5;
+                $body
+            }
+            6 => {
+                let $k = 6;
+                $body
+            }
+            7 => {
+                let $k = 7;
+                $body
+            }
+            8 => {
+                let $k = 8;
+                $body
+            }
+            9 => {
+                let $k = 9;
+                $body
+            }
+            $k => $body,
+        }
+    };
+}
+
 /// Fixed masses and derived constants of a run.
 #[derive(Debug, Clone)]
 struct Bodies {
@@ -720,17 +765,7 @@ impl WisdomHolman {
     /// One main step of signed size `h` (DKD with fused drifts), dispatched
     /// on the number of bodies like [`kick`].
     fn one_step(&mut self, h: f64) -> Result<(), NbodyError> {
-        match self.jr.len() {
-            2 => self.one_step_sized(h, 2),
-            3 => self.one_step_sized(h, 3),
-            4 => self.one_step_sized(h, 4),
-            5 => self.one_step_sized(h, 5),
-            6 => self.one_step_sized(h, 6),
-            7 => self.one_step_sized(h, 7),
-            8 => self.one_step_sized(h, 8),
-            9 => self.one_step_sized(h, 9),
-            n => self.one_step_sized(h, n),
-        }
+        by_size!(self.jr.len(), |n| self.one_step_sized(h, n))
     }
 
     /// [`WisdomHolman::one_step`] for `n` bodies (a constant where it is
@@ -1112,25 +1147,13 @@ fn kick_tan(b: &Bodies, w: &Work, tn: &mut Tangents, scratch: bool, jr: &[Vector
 
 /// Interaction kick v'_k += h [(A a)_k + μ_k r'_k/r'_k³] (module docs).
 ///
-/// Dispatched on the number of bodies so that each system size up to nine
-/// bodies (eight planets) gets its own copy of [`kick_sized`] with the
-/// length a constant: its loops unroll and the index checks fold away (the
-/// same operations in the same order, so bitwise the same result). On the
+/// Dispatched on the number of bodies (`by_size!`) so that each system
+/// size up to nine bodies gets its own copy of [`kick_sized`]. On the
 /// two-planet step this cut the instructions per step from 2407 to 1875
 /// (valgrind) and the time by about a third (BENCHMARKS.md).
 #[inline]
 fn kick(b: &Bodies, w: &mut Work, jr: &[Vector3<f64>], jv: &mut [Vector3<f64>], h: f64) {
-    match jr.len() {
-        2 => kick_sized(b, w, jr, jv, h, 2),
-        3 => kick_sized(b, w, jr, jv, h, 3),
-        4 => kick_sized(b, w, jr, jv, h, 4),
-        5 => kick_sized(b, w, jr, jv, h, 5),
-        6 => kick_sized(b, w, jr, jv, h, 6),
-        7 => kick_sized(b, w, jr, jv, h, 7),
-        8 => kick_sized(b, w, jr, jv, h, 8),
-        9 => kick_sized(b, w, jr, jv, h, 9),
-        n => kick_sized(b, w, jr, jv, h, n),
-    }
+    by_size!(jr.len(), |n| kick_sized(b, w, jr, jv, h, n))
 }
 
 /// [`kick`] for `n` bodies (see [`interaction_sized`]).
@@ -1236,17 +1259,7 @@ fn interaction(b: &Bodies, w: &mut Work, kw: &mut KernelWork, jr: &[Vector3<f64>
     let a = &mut kw.a;
     a[0] = Vector3::zeros();
     let mut put = |k: usize, ak: Vector3<f64>| a[k] = ak;
-    match jr.len() {
-        2 => interaction_sized(b, w, jr, 2, true, &mut put),
-        3 => interaction_sized(b, w, jr, 3, true, &mut put),
-        4 => interaction_sized(b, w, jr, 4, true, &mut put),
-        5 => interaction_sized(b, w, jr, 5, true, &mut put),
-        6 => interaction_sized(b, w, jr, 6, true, &mut put),
-        7 => interaction_sized(b, w, jr, 7, true, &mut put),
-        8 => interaction_sized(b, w, jr, 8, true, &mut put),
-        9 => interaction_sized(b, w, jr, 9, true, &mut put),
-        n => interaction_sized(b, w, jr, n, true, &mut put),
-    }
+    by_size!(jr.len(), |n| interaction_sized(b, w, jr, n, true, &mut put))
 }
 
 /// Tidal-tensor product: `out`_k = Σ_j (∂a_k/∂r'_j) `src`_j (Jacobi, per
@@ -1267,17 +1280,9 @@ fn tidal_product(
     s: &mut TidalScratch,
     out: &mut [Vector3<f64>],
 ) {
-    match jr.len() {
-        2 => tidal_product_sized(b, pos, geo, jr, src, s, out, 2),
-        3 => tidal_product_sized(b, pos, geo, jr, src, s, out, 3),
-        4 => tidal_product_sized(b, pos, geo, jr, src, s, out, 4),
-        5 => tidal_product_sized(b, pos, geo, jr, src, s, out, 5),
-        6 => tidal_product_sized(b, pos, geo, jr, src, s, out, 6),
-        7 => tidal_product_sized(b, pos, geo, jr, src, s, out, 7),
-        8 => tidal_product_sized(b, pos, geo, jr, src, s, out, 8),
-        9 => tidal_product_sized(b, pos, geo, jr, src, s, out, 9),
-        n => tidal_product_sized(b, pos, geo, jr, src, s, out, n),
-    }
+    by_size!(jr.len(), |n| tidal_product_sized(
+        b, pos, geo, jr, src, s, out, n
+    ))
 }
 
 /// [`tidal_product`] for `n` bodies, every buffer cut to `n` (or n²)
