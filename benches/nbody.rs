@@ -89,40 +89,39 @@ impl WhConfig {
 /// backward; outputs from a partial step on a copy (the main sequence is
 /// untouched).
 fn wh_rv(sys: &System, epochs: &[f64], h: f64, cfg: WhConfig, out: &mut [f64]) {
-    let st = WhSettings {
-        step: Some(h),
-        corrector: cfg.corrector,
-        kick: cfg.kick,
-        ..WhSettings::default()
-    };
     let mut snap = Snapshot::zeros(sys.masses.len(), 0.0);
     let split = epochs.partition_point(|t| *t < T_REF);
-    let mut fwd = WisdomHolman::new(sys, st).unwrap();
-    fwd.set_corrector_form(cfg.form);
+    let mut fwd = wh_of(sys, h, cfg);
     for i in split..epochs.len() {
         fwd.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
     }
-    let mut back = WisdomHolman::new(sys, st).unwrap();
-    back.set_corrector_form(cfg.form);
+    let mut back = wh_of(sys, h, cfg);
     for i in (0..split).rev() {
         back.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
     }
 }
 
-/// Star v_z (m/s) at `out.len()` epochs spread over the first step after
-/// t_ref (every output a partial step from the boundary state at t_ref).
-fn wh_outputs_alone(sys: &System, h: f64, cfg: WhConfig, out: &mut [f64]) {
+/// A Wisdom–Holman integrator of `sys` with step `h` (days) in
+/// configuration `cfg`.
+fn wh_of(sys: &System, h: f64, cfg: WhConfig) -> WisdomHolman {
     let st = WhSettings {
         step: Some(h),
         corrector: cfg.corrector,
         kick: cfg.kick,
         ..WhSettings::default()
     };
-    let mut snap = Snapshot::zeros(sys.masses.len(), 0.0);
     let mut wh = WisdomHolman::new(sys, st).unwrap();
     wh.set_corrector_form(cfg.form);
+    wh
+}
+
+/// Star v_z (m/s) at `out.len()` epochs spread over the first step after
+/// t_ref (every output a partial step from the boundary state at t_ref).
+fn wh_outputs_alone(sys: &System, h: f64, cfg: WhConfig, out: &mut [f64]) {
+    let mut snap = Snapshot::zeros(sys.masses.len(), 0.0);
+    let mut wh = wh_of(sys, h, cfg);
     let n = out.len() as f64;
     for (i, o) in out.iter_mut().enumerate() {
         wh.advance_to(T_REF + h * (i as f64 + 0.5) / n, &mut snap)
