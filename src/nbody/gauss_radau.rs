@@ -581,7 +581,10 @@ pub struct GaussRadau {
     step_b: Vec<[f64; 7]>,
     /// Force scratch.
     forces: ForceBuffers,
-    /// Event state: onset flags and the astrocentric r·v of the last step.
+    /// Event state: the mass factors ((m_i + m_j)/(3 M⋆))^{1/3} of the
+    /// mutual Hill radii (entry i·N + j, i < j; computed once), onset
+    /// flags and the astrocentric r·v of the last step.
+    hill_factors: Vec<f64>,
     pair_flags: Vec<bool>,
     collide_flags: Vec<bool>,
     eject_flags: Vec<bool>,
@@ -721,6 +724,12 @@ impl GaussRadau {
                 vel: vec![Vector3::zeros(); n],
                 acc: vec![Vector3::zeros(); n],
             },
+            hill_factors: (0..n * n)
+                .map(|k| {
+                    let (i, j) = (k / n, k % n);
+                    ((system.masses[i] + system.masses[j]) / (3.0 * system.masses[0])).cbrt()
+                })
+                .collect(),
             pair_flags: vec![false; n * n],
             collide_flags: vec![false; n],
             eject_flags: vec![false; n],
@@ -1028,8 +1037,10 @@ impl GaussRadau {
             if (dt_next / dt).abs() > 1.0 / SAFETY {
                 dt_next = dt / SAFETY;
             }
-            self.er.copy_from_slice(&self.e);
-            self.br.copy_from_slice(&self.b);
+            // The accepted e and b become the "last" ones; predict_next
+            // overwrites every entry of e and b.
+            std::mem::swap(&mut self.er, &mut self.e);
+            std::mem::swap(&mut self.br, &mut self.b);
             predict_next(dt_next / dt, &self.er, &self.br, &mut self.e, &mut self.b);
             self.dt = dt_next;
             return self.check_events();
@@ -1193,9 +1204,7 @@ impl GaussRadau {
                 let (ri, _) = self.rel(i);
                 for j in (i + 1)..n {
                     let (rj, _) = self.rel(j);
-                    let rh = ((self.masses[i] + self.masses[j]) / (3.0 * m0)).cbrt()
-                        * 0.5
-                        * (ri.norm() + rj.norm());
+                    let rh = self.hill_factors[i * n + j] * 0.5 * (ri.norm() + rj.norm());
                     let sep = (ri - rj).norm();
                     let inside = rh > 0.0 && sep < hill * rh;
                     let flag = &mut self.pair_flags[i * n + j];
