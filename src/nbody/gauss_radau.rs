@@ -149,13 +149,14 @@ pub enum IterationStop {
     /// benchmark, 400 epochs over 4000 d, star RV, against the 2015 stop
     /// at the same ε and against the 2015 step rule and stop at
     /// ε = 1e-12): at ε = 1e-9, 2.01 iterations per step instead of 3.21
-    /// and 24 424 force evaluations instead of 37 983 (−36 %), same steps,
-    /// max |Δv| 8.6e-12 m/s from the 2015 stop and 7.2e-12 m/s from the
-    /// tight run (2015 stop: 3.6e-12; ε = 1e-9 against 1e-11: 7.3e-12),
-    /// i.e. round-off. At ε = 1e-7, 1e-6, 1e-4: 16 143 / 13 101 / 8 666
-    /// evaluations instead of 27 357 / 22 810 / 18 347, errors from the
-    /// tight run 6.7e-11 / 1.5e-9 / 7.6e-7 m/s instead of 6.6e-11 /
-    /// 1.4e-9 / 7.4e-7. The default.
+    /// and 24 424 force evaluations instead of 37 976 (−36 %), the same
+    /// steps, max |Δv| 8.0e-12 m/s from the 2015 stop and 5.2e-12 m/s from
+    /// the tight run (the 2015 stop: 7.8e-12), i.e. round-off (RV
+    /// amplitude 177.5 m/s). At ε = 1e-7, 1e-6, 1e-4: 16 143 / 13 101 /
+    /// 8 666 evaluations instead of 27 371 / 22 936 / 18 298, errors from
+    /// the tight run 6.9e-11 / 1.5e-9 / 7.6e-7 m/s instead of 7.5e-11 /
+    /// 1.4e-9 / 7.4e-7. Energy over 10⁴ inner orbits 7.2e-15
+    /// (tests/nbody_gauss_radau.rs). The default.
     #[default]
     PredictedRate,
 }
@@ -987,34 +988,41 @@ impl GaussRadau {
             }
             self.step_a0.copy_from_slice(&self.a0);
             self.step_b.copy_from_slice(&self.b);
-            // Compensated update, term by term as Rein & Spiegel (2015,
-            // §2.2) do, in registers: the sum and its compensation are
-            // loaded once per coordinate and stored once (the same
-            // operations as updating them in memory, so the same bits, but
-            // without a store-to-load round trip on the dependency chain).
+            // Compensated update (Kahan 1965; Rein & Spiegel 2015, §2.2) of
+            // the three parts of the increment: the b terms, summed first
+            // in plain arithmetic (smallest first), then a₀ and v₀. The b
+            // terms together are ≈ (Ω Δt)³ of the position (Ω the fastest
+            // orbital frequency: ≈ 1e-3 here) and ≈ (Ω Δt)² of the
+            // velocity, so rounding their sum adds far less than the
+            // rounding of the v₀ Δt and a₀ Δt terms themselves (≈ ½ ulp of
+            // a term ≈ Ω Δt of the coordinate), which bounds the error of
+            // the term-by-term sum as well; the sum and its compensation
+            // stay in registers.
             let dt2 = dt * dt;
             for j in 0..n3 {
                 let bj = self.b[j];
                 let a0 = self.a0[j];
                 let v0 = self.v[j];
                 let (mut x, mut cx) = (self.x[j], self.csx[j]);
-                add_cs(&mut x, &mut cx, bj[6] * (1.0 / 72.0) * dt2);
-                add_cs(&mut x, &mut cx, bj[5] * (1.0 / 56.0) * dt2);
-                add_cs(&mut x, &mut cx, bj[4] * (1.0 / 42.0) * dt2);
-                add_cs(&mut x, &mut cx, bj[3] * (1.0 / 30.0) * dt2);
-                add_cs(&mut x, &mut cx, bj[2] * (1.0 / 20.0) * dt2);
-                add_cs(&mut x, &mut cx, bj[1] * (1.0 / 12.0) * dt2);
-                add_cs(&mut x, &mut cx, bj[0] * (1.0 / 6.0) * dt2);
+                let px = bj[6] * (1.0 / 72.0) * dt2
+                    + bj[5] * (1.0 / 56.0) * dt2
+                    + bj[4] * (1.0 / 42.0) * dt2
+                    + bj[3] * (1.0 / 30.0) * dt2
+                    + bj[2] * (1.0 / 20.0) * dt2
+                    + bj[1] * (1.0 / 12.0) * dt2
+                    + bj[0] * (1.0 / 6.0) * dt2;
+                add_cs(&mut x, &mut cx, px);
                 add_cs(&mut x, &mut cx, a0 * (1.0 / 2.0) * dt2);
                 add_cs(&mut x, &mut cx, v0 * dt);
                 let (mut v, mut cv) = (v0, self.csv[j]);
-                add_cs(&mut v, &mut cv, bj[6] * (1.0 / 8.0) * dt);
-                add_cs(&mut v, &mut cv, bj[5] * (1.0 / 7.0) * dt);
-                add_cs(&mut v, &mut cv, bj[4] * (1.0 / 6.0) * dt);
-                add_cs(&mut v, &mut cv, bj[3] * (1.0 / 5.0) * dt);
-                add_cs(&mut v, &mut cv, bj[2] * (1.0 / 4.0) * dt);
-                add_cs(&mut v, &mut cv, bj[1] * (1.0 / 3.0) * dt);
-                add_cs(&mut v, &mut cv, bj[0] * (1.0 / 2.0) * dt);
+                let pv = bj[6] * (1.0 / 8.0) * dt
+                    + bj[5] * (1.0 / 7.0) * dt
+                    + bj[4] * (1.0 / 6.0) * dt
+                    + bj[3] * (1.0 / 5.0) * dt
+                    + bj[2] * (1.0 / 4.0) * dt
+                    + bj[1] * (1.0 / 3.0) * dt
+                    + bj[0] * (1.0 / 2.0) * dt;
+                add_cs(&mut v, &mut cv, pv);
                 add_cs(&mut v, &mut cv, a0 * dt);
                 self.x[j] = x;
                 self.csx[j] = cx;
