@@ -20,8 +20,8 @@
 //! acceleration (Rein & Spiegel 2015, MNRAS 446, 1424, §2.3), at most
 //! [`MAX_ITERATIONS`] times, or, by default, until the rate of the last two
 //! changes predicts what is left below 1e-4 ε (the stopping test of
-//! Hairer & Wanner 1996, §IV.8; [`IterationStop`]). The next step comes from the step polynomial by
-//! one of two published rules ([`StepCriterion`]): by default the per-body
+//! Hairer & Wanner 1996, §IV.8; [`IterationStop`]). The next step comes
+//! from the step polynomial by one of two published rules ([`StepCriterion`]): by default the per-body
 //! timescale of Pham, Rein & Spiegel (2024), τ² = 2|F|²/(|F′|² + |F″||F|)
 //! at the step end and a next step min τ (7! ε)^{1/7}; or the global
 //! estimate ε̃ = max|b₆| / max|a| of Rein & Spiegel (2015, eq. 11 and
@@ -31,7 +31,9 @@
 //! those of the last one by Everhart's extrapolation (the e coefficients,
 //! Everhart 1985 eq. 13, with the correction by the last prediction error,
 //! Rein & Spiegel 2015 §2.5). Positions, velocities and time are summed with
-//! Kahan's compensated summation (Kahan 1965; Rein & Spiegel 2015 §2.2).
+//! Kahan's compensated summation (Kahan 1965; Rein & Spiegel 2015 §2.2),
+//! the seven small b terms of a step's increment first added together
+//! (see the step update).
 //!
 //! Dense output: a requested time inside the last accepted step is
 //! evaluated from that step's polynomial, so `advance_to` never shortens a
