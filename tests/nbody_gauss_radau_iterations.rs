@@ -75,9 +75,9 @@ fn predicted_rate_stop_saves_iterations_at_round_off_accuracy() {
         IterationStop::RoundOff2015,
     );
     let crit = StepCriterion::PerBody2024;
-    // Round-off (the default ε = 1e-9). Measured 2026-12-02: 3.21 → 2.01
-    // iterations per step, 37 976 → 24 424 evaluations; new vs old
-    // 8.0e-12 m/s, new vs tight 5.2e-12, old vs tight 7.8e-12 (RV
+    // Round-off (the default ε = 1e-9). Measured 2026-12-02: 3.18 → 2.01
+    // iterations per step, 37 619 → 24 424 evaluations; new vs old
+    // 9.9e-12 m/s, new vs tight 5.7e-12, old vs tight 7.3e-12 (RV
     // amplitude 177.5 m/s: round-off of the 400-epoch evaluation; the
     // bar 1e-11 m/s is that of tests/nbody_gauss_radau_criterion.rs).
     let (old, n_old, it_old) = rvs(&sys, 1e-9, crit, IterationStop::RoundOff2015);
@@ -99,8 +99,8 @@ fn predicted_rate_stop_saves_iterations_at_round_off_accuracy() {
 
     // Loose ε = 1e-6 (the setting matched to Dop853 tol 1e-13 in the
     // bench): the truncation error dominates, and the new stop must leave
-    // it where it was. Measured: 5.26 → 2.95 iterations per step,
-    // 22 936 → 13 101 evaluations, error from tight 1.44e-9 → 1.50e-9.
+    // it where it was. Measured: 5.04 → 2.95 iterations per step,
+    // 21 977 → 13 101 evaluations, error from tight 1.43e-9 → 1.50e-9.
     let (old, n_old, it_old) = rvs(&sys, 1e-6, crit, IterationStop::RoundOff2015);
     let (new, n_new, it_new) = rvs(&sys, 1e-6, crit, IterationStop::PredictedRate);
     let (e_old, e_new) = (max_diff(&old, &tight), max_diff(&new, &tight));

@@ -150,14 +150,14 @@ pub enum IterationStop {
     /// Evidence (tests/nbody_gauss_radau_iterations.rs; the two-giant
     /// benchmark, 400 epochs over 4000 d, star RV, against the 2015 stop
     /// at the same ε and against the 2015 step rule and stop at
-    /// ε = 1e-12): at ε = 1e-9, 2.01 iterations per step instead of 3.21
-    /// and 24 424 force evaluations instead of 37 976 (−36 %), the same
-    /// steps, max |Δv| 8.0e-12 m/s from the 2015 stop and 5.2e-12 m/s from
-    /// the tight run (the 2015 stop: 7.8e-12), i.e. round-off (RV
+    /// ε = 1e-12): at ε = 1e-9, 2.01 iterations per step instead of 3.18
+    /// and 24 424 force evaluations instead of 37 619 (−35 %), the same
+    /// steps, max |Δv| 9.9e-12 m/s from the 2015 stop and 5.7e-12 m/s from
+    /// the tight run (the 2015 stop: 7.3e-12), i.e. round-off (RV
     /// amplitude 177.5 m/s). At ε = 1e-7, 1e-6, 1e-4: 16 143 / 13 101 /
-    /// 8 666 evaluations instead of 27 371 / 22 936 / 18 298, errors from
-    /// the tight run 6.9e-11 / 1.5e-9 / 7.6e-7 m/s instead of 7.5e-11 /
-    /// 1.4e-9 / 7.4e-7. Energy over 10⁴ inner orbits 7.2e-15
+    /// 8 666 evaluations instead of 26 783 / 21 977 / 16 723, errors from
+    /// the tight run 6.3e-11 / 1.5e-9 / 7.6e-7 m/s instead of 6.4e-11 /
+    /// 1.4e-9 / 7.4e-7. Energy over 10⁴ inner orbits 6.5e-15
     /// (tests/nbody_gauss_radau.rs). The default.
     #[default]
     PredictedRate,
@@ -202,8 +202,17 @@ struct Tables {
     d: [[f64; 7]; 7],
     /// Position weights at node n: w[n][0] = τ²/2 (for a₀) and
     /// w[n][k+1] = τ^{k+3}/((k+2)(k+3)) (for b_k), τ = h_n; times Δt² they
-    /// give the position polynomial as a dot product.
+    /// give the position polynomial as a dot product (kept for the
+    /// unit test of `wg`).
+    #[cfg_attr(not(test), allow(dead_code))]
     w: [[f64; 8]; 8],
+    /// The same weights on the divided differences g: wg[n][0] = w[n][0]
+    /// and wg[n][k+1] = Σ_{m ≤ k} w[n][m+1] c[k][m] (since b = Cᵀ g), so
+    /// that the predictor needs g only and b is formed once per iteration.
+    wg: [[f64; 8]; 8],
+    /// Velocity weights on g at node n: ug[n][0] = τ and
+    /// ug[n][k+1] = Σ_{m ≤ k} τ^{m+2}/(m+2) c[k][m]; times Δt.
+    ug: [[f64; 8]; 8],
 }
 
 impl Tables {
@@ -245,7 +254,30 @@ impl Tables {
                 w[n][k + 1] = tau.powi(k as i32 + 3) / (((k + 2) * (k + 3)) as f64);
             }
         }
-        Tables { inv, c, d, w }
+        let mut wg = [[0.0; 8]; 8];
+        let mut ug = [[0.0; 8]; 8];
+        for n in 1..8 {
+            let tau = h[n];
+            wg[n][0] = w[n][0];
+            ug[n][0] = tau;
+            for k in 0..7 {
+                let (mut sw, mut su) = (0.0, 0.0);
+                for m in 0..=k {
+                    sw += w[n][m + 1] * c[k][m];
+                    su += tau.powi(m as i32 + 2) / ((m + 2) as f64) * c[k][m];
+                }
+                wg[n][k + 1] = sw;
+                ug[n][k + 1] = su;
+            }
+        }
+        Tables {
+            inv,
+            c,
+            d,
+            w,
+            wg,
+            ug,
+        }
     }
 }
 
@@ -481,53 +513,51 @@ impl ForceBuffers {
 }
 
 /// The corrector for node `K + 1`: the new divided difference g_K from the
-/// acceleration `at` there, and the change of g_K carried into b_0..b_K
-/// (Everhart 1985, eqs. 8–10). Returns max |Δg_K| (= max |Δb_K| for the
-/// last node, where c[6][6] = 1). Unrolled per node by the const `K`.
+/// acceleration `at` there (Everhart 1985, eqs. 8–9; the b follow from the
+/// g once per iteration, eq. 10, [`b_from_g`]). Returns max |Δg_K|
+/// (= max |Δb_K| for the last node, where c[6][6] = 1). Unrolled per node
+/// by the const `K`.
 #[inline(always)]
-fn corrector<const K: usize>(
-    inv: &[f64; 8],
-    c: &[f64; 7],
-    at: &[f64],
-    a0: &[f64],
-    g: &mut [[f64; 7]],
-    b: &mut [[f64; 7]],
-) -> f64 {
+fn corrector<const K: usize>(inv: &[f64; 8], at: &[f64], a0: &[f64], g: &mut [[f64; 7]]) -> f64 {
     let mut max_delta: f64 = 0.0;
-    for (((gj, bj), &a), &a0j) in g.iter_mut().zip(b.iter_mut()).zip(at).zip(a0) {
+    for ((gj, &a), &a0j) in g.iter_mut().zip(at).zip(a0) {
         let mut gk = (a - a0j) * inv[0];
         for m in 0..K {
             gk = (gk - gj[m]) * inv[m + 1];
         }
         let delta = gk - gj[K];
         gj[K] = gk;
-        for m in 0..=K {
-            bj[m] += delta * c[m];
-        }
         max_delta = max_delta.max(delta.abs());
     }
     max_delta
 }
 
+/// b from g: b_m = Σ_{k ≥ m} c[k][m] g_k (Everhart 1985, eq. 10), for every
+/// coordinate.
+#[inline(always)]
+fn b_from_g(c: &[[f64; 7]; 7], g: &[[f64; 7]], b: &mut [[f64; 7]]) {
+    for (bj, gj) in b.iter_mut().zip(g) {
+        for m in 0..7 {
+            let mut s = 0.0;
+            for k in m..7 {
+                s += c[k][m] * gj[k];
+            }
+            bj[m] = s;
+        }
+    }
+}
+
 /// The corrector for node `n` (1..7), dispatched to the unrolled forms.
 #[inline(always)]
-fn corrector_node(
-    n: usize,
-    inv: &[f64; 8],
-    c: &[f64; 7],
-    at: &[f64],
-    a0: &[f64],
-    g: &mut [[f64; 7]],
-    b: &mut [[f64; 7]],
-) -> f64 {
+fn corrector_node(n: usize, inv: &[f64; 8], at: &[f64], a0: &[f64], g: &mut [[f64; 7]]) -> f64 {
     match n {
-        1 => corrector::<0>(inv, c, at, a0, g, b),
-        2 => corrector::<1>(inv, c, at, a0, g, b),
-        3 => corrector::<2>(inv, c, at, a0, g, b),
-        4 => corrector::<3>(inv, c, at, a0, g, b),
-        5 => corrector::<4>(inv, c, at, a0, g, b),
-        6 => corrector::<5>(inv, c, at, a0, g, b),
-        _ => corrector::<6>(inv, c, at, a0, g, b),
+        1 => corrector::<0>(inv, at, a0, g),
+        2 => corrector::<1>(inv, at, a0, g),
+        3 => corrector::<2>(inv, at, a0, g),
+        4 => corrector::<3>(inv, at, a0, g),
+        5 => corrector::<4>(inv, at, a0, g),
+        6 => corrector::<5>(inv, at, a0, g),
+        _ => corrector::<6>(inv, at, a0, g),
     }
 }
 
@@ -930,6 +960,7 @@ impl GaussRadau {
                 }
             }
             self.iterations += iter as u64;
+            b_from_g(&self.tables.c, &self.g, &mut self.b);
             // Global error estimate ε̃ = max|b₆| / max|a| (Rein & Spiegel
             // 2015, eq. 11), with a from the last node.
             let mut max_b6: f64 = 0.0;
@@ -1059,8 +1090,9 @@ impl GaussRadau {
 
     /// One predictor–corrector pass over the seven nodes of a step of
     /// length `dt` (Everhart 1985 eqs. 8–10): predicted positions (and
-    /// velocities with the 1PN term), forces, and the corrector at every
-    /// node. Returns max|Δb₆| and max|a| at the last node over the real
+    /// velocities with the 1PN term) from the g, forces, and the corrector
+    /// of g at every node (b is formed from g after the iteration).
+    /// Returns max|Δb₆| and max|a| at the last node over the real
     /// coordinates. Dispatches to a fixed-size copy of the same arithmetic
     /// (same operations in the same order, so bit-identical results) for
     /// the common case of 2–10 bodies without tangents or 1PN.
@@ -1094,7 +1126,8 @@ impl GaussRadau {
         let mut max_at: f64 = 0.0;
         for (n, &tau) in NODES.iter().enumerate().skip(1) {
             let s_dt = dt * tau;
-            let wn = self.tables.w[n];
+            let wn = self.tables.wg[n];
+            let un = self.tables.ug[n];
             let dt2 = dt * dt;
             let wa = wn[0] * dt2;
             let wb = [
@@ -1110,20 +1143,22 @@ impl GaussRadau {
                 .xs
                 .iter_mut()
                 .zip(self.x.iter().zip(&self.csx))
-                .zip(self.v.iter().zip(self.a0.iter().zip(&self.b)))
+                .zip(self.v.iter().zip(self.a0.iter().zip(&self.g)))
             {
                 let p = (wa * a0 + wb[0] * b[0] + wb[1] * b[1] + wb[2] * b[2])
                     + (wb[3] * b[3] + wb[4] * b[4] + wb[5] * b[5] + wb[6] * b[6]);
                 *xs = x + ((s_dt * v + p) - cs);
             }
             if self.post_newtonian {
-                for ((vs, (&v, &cs)), (&a0, b)) in self
+                for ((vs, (&v, &cs)), (&a0, g)) in self
                     .vs
                     .iter_mut()
                     .zip(self.v.iter().zip(&self.csv))
-                    .zip(self.a0.iter().zip(&self.b))
+                    .zip(self.a0.iter().zip(&self.g))
                 {
-                    *vs = v + (vel_poly(dt, tau, a0, b) - cs);
+                    let u = (un[0] * a0 + un[1] * g[0] + un[2] * g[1] + un[3] * g[2])
+                        + (un[4] * g[3] + un[5] * g[4] + un[6] * g[5] + un[7] * g[6]);
+                    *vs = v + (dt * u - cs);
                 }
             }
             self.forces.eval_all(
@@ -1136,12 +1171,11 @@ impl GaussRadau {
                 &mut self.at,
             );
             let inv = &self.tables.inv[n];
-            let c = &self.tables.c[n - 1];
-            let (at, a0, g, b) = (&self.at, &self.a0, &mut self.g, &mut self.b);
+            let (at, a0, g) = (&self.at, &self.a0, &mut self.g);
             // Convergence is judged on the real bodies only.
-            let md = corrector_node(n, inv, c, &at[..nr], &a0[..nr], &mut g[..nr], &mut b[..nr]);
+            let md = corrector_node(n, inv, &at[..nr], &a0[..nr], &mut g[..nr]);
             if ntan > 0 {
-                corrector_node(n, inv, c, &at[nr..], &a0[nr..], &mut g[nr..], &mut b[nr..]);
+                corrector_node(n, inv, &at[nr..], &a0[nr..], &mut g[nr..]);
             }
             if n == 7 {
                 max_delta6 = md;
@@ -1163,7 +1197,6 @@ impl GaussRadau {
         let a0: &[f64; M] = self.a0.as_slice().try_into().ok()?;
         let xs: &mut [f64; M] = self.xs.as_mut_slice().try_into().ok()?;
         let at: &mut [f64; M] = self.at.as_mut_slice().try_into().ok()?;
-        let b: &mut [[f64; 7]; M] = self.b.as_mut_slice().try_into().ok()?;
         let g: &mut [[f64; 7]; M] = self.g.as_mut_slice().try_into().ok()?;
         let masses = self.masses.get(..M / 3)?;
         let tables = &self.tables;
@@ -1171,7 +1204,7 @@ impl GaussRadau {
         let mut max_at: f64 = 0.0;
         for (n, &tau) in NODES.iter().enumerate().skip(1) {
             let s_dt = dt * tau;
-            let wn = tables.w[n];
+            let wn = tables.wg[n];
             let dt2 = dt * dt;
             let wa = wn[0] * dt2;
             let wb = [
@@ -1184,15 +1217,14 @@ impl GaussRadau {
                 wn[7] * dt2,
             ];
             for j in 0..M {
-                let bj = &b[j];
+                let bj = &g[j];
                 let p = (wa * a0[j] + wb[0] * bj[0] + wb[1] * bj[1] + wb[2] * bj[2])
                     + (wb[3] * bj[3] + wb[4] * bj[4] + wb[5] * bj[5] + wb[6] * bj[6]);
                 xs[j] = x[j] + ((s_dt * v[j] + p) - csx[j]);
             }
             newtonian_fixed(masses, xs, at);
             let inv = &tables.inv[n];
-            let c = &tables.c[n - 1];
-            let md = corrector_node(n, inv, c, &at[..], &a0[..], &mut g[..], &mut b[..]);
+            let md = corrector_node(n, inv, &at[..], &a0[..], &mut g[..]);
             if n == 7 {
                 max_delta6 = md;
                 max_at = at.iter().fold(0.0f64, |m, a| m.max(a.abs()));
@@ -1580,6 +1612,20 @@ mod tests {
                 let want = if m == k { 1.0 } else { 0.0 };
                 assert!((s - want).abs() < 1e-13, "m={m} k={k} s={s}");
             }
+        }
+        // The predictor weights on g equal those on b = Cᵀ g (algebra of
+        // the two bases), for positions and velocities.
+        let gs = [0.3, -1.2, 0.7, 2.1, -0.4, 1.5, -0.9];
+        let mut bs = [0.0; 7];
+        b_from_g(&t.c, &[gs], std::slice::from_mut(&mut bs));
+        for (n, &tau) in NODES.iter().enumerate().skip(1) {
+            let via_b: f64 = (0..7).map(|m| t.w[n][m + 1] * bs[m]).sum();
+            let via_g: f64 = (0..7).map(|k| t.wg[n][k + 1] * gs[k]).sum();
+            assert!((via_b - via_g).abs() < 1e-14, "n={n}: {via_b} {via_g}");
+            let vb = vel_poly(1.0, tau, 0.0, &bs);
+            let vg: f64 = (0..7).map(|k| t.ug[n][k + 1] * gs[k]).sum();
+            assert!((vb - vg).abs() < 1e-14, "n={n}: {vb} {vg}");
+            assert_eq!((t.wg[n][0], t.ug[n][0]), (t.w[n][0], tau));
         }
         // Published value (Rein & Spiegel 2015 / Everhart 1985 tables):
         // c₀ = −h₁, d₀ = h₁.
