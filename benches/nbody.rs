@@ -11,7 +11,7 @@ mod support;
 
 use std::hint::black_box;
 
-use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings, StepCriterion};
+use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings, IterationStop, StepCriterion};
 use apsidal::nbody::wisdom_holman::{Corrector, CorrectorForm, Kick, WhSettings, WisdomHolman};
 use apsidal::nbody::{Integrator, Snapshot, System};
 use apsidal::units::{G, au_per_day_to_m_s};
@@ -28,19 +28,35 @@ fn epochs() -> Vec<f64> {
 
 /// Star RVs (m/s) at `epochs` (sorted) with Gauss–Radau at tolerance
 /// `eps` and the default settings (step rule of Pham, Rein & Spiegel 2024,
-/// fixed-size inner loop): one integrator forward from t_ref, one backward.
+/// rate-predicted iteration stop, fixed-size inner loop): one integrator
+/// forward from t_ref, one backward.
 fn gr_rv(sys: &System, epochs: &[f64], eps: f64, out: &mut [f64]) -> u64 {
-    gr_rv_with(sys, epochs, eps, StepCriterion::PerBody2024, false, out)
+    gr_rv_stop(sys, epochs, eps, IterationStop::PredictedRate, out)
 }
 
-/// As [`gr_rv`] with a chosen step rule and, with `general`, the general
-/// slice-based inner loop (the code before the fixed-size copy).
+/// As [`gr_rv`] with a chosen predictor–corrector stop.
+fn gr_rv_stop(sys: &System, epochs: &[f64], eps: f64, stop: IterationStop, out: &mut [f64]) -> u64 {
+    gr_rv_with(
+        sys,
+        epochs,
+        eps,
+        StepCriterion::PerBody2024,
+        false,
+        stop,
+        out,
+    )
+}
+
+/// As [`gr_rv`] with a chosen step rule, iteration stop and, with
+/// `general`, the general slice-based inner loop (the code before the
+/// fixed-size copy).
 fn gr_rv_with(
     sys: &System,
     epochs: &[f64],
     eps: f64,
     crit: StepCriterion,
     general: bool,
+    stop: IterationStop,
     out: &mut [f64],
 ) -> u64 {
     let st = GaussRadauSettings {
@@ -53,6 +69,7 @@ fn gr_rv_with(
     let mut fwd = GaussRadau::new(sys.clone(), st).unwrap();
     fwd.set_step_criterion(crit);
     fwd.set_general_loop(general);
+    fwd.set_iteration_stop(stop);
     for i in split..epochs.len() {
         fwd.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
@@ -60,6 +77,7 @@ fn gr_rv_with(
     let mut back = GaussRadau::new(sys.clone(), st).unwrap();
     back.set_step_criterion(crit);
     back.set_general_loop(general);
+    back.set_iteration_stop(stop);
     for i in (0..split).rev() {
         back.advance_to(epochs[i], &mut snap).unwrap();
         out[i] = au_per_day_to_m_s(snap.vel[0].z);
@@ -226,13 +244,32 @@ fn bench(c: &mut Criterion) {
     println!(
         "RV amplitude {amp:.1} m/s; Gauss–Radau ε = 1e-9 vs 1e-11: max |Δv| = {gr_err:.2e} m/s"
     );
-    let n_old = gr_rv_with(&sys, &ep, 1e-9, StepCriterion::Global2015, true, &mut tmp);
+    for eps in [1e-9, 1e-7, 1e-6, 1e-4] {
+        let n_ev = gr_rv_stop(&sys, &ep, eps, IterationStop::RoundOff2015, &mut tmp);
+        println!(
+            "Gauss–Radau ε = {eps:.0e}, 2015 iteration stop: max |Δv| vs default ε = 1e-9 = {:.2e} m/s, {n_ev} force evaluations",
+            max_diff(&tmp, &reference)
+        );
+    }
+    let n_old = gr_rv_with(
+        &sys,
+        &ep,
+        1e-9,
+        StepCriterion::Global2015,
+        true,
+        IterationStop::RoundOff2015,
+        &mut tmp,
+    );
     println!(
         "Gauss–Radau ε = 1e-9, 2015 global step rule: max |Δv| vs default = {:.2e} m/s, {n_old} force evaluations",
         max_diff(&tmp, &reference)
     );
     let mut gr_ladder = Vec::new();
-    for eps in [1e-8, 1e-7, 1e-6, 1e-5, 1e-4, 1e-3, 1e-2] {
+    // Half decades, so that the matched pairs below are within ≈ 3× in
+    // accuracy rather than 10×.
+    for eps in [
+        1e-8, 3e-8, 1e-7, 3e-7, 1e-6, 3e-6, 1e-5, 3e-5, 1e-4, 3e-4, 1e-3, 1e-2,
+    ] {
         let n_ev = gr_rv(&sys, &ep, eps, &mut tmp);
         let e = max_diff(&tmp, &reference);
         println!(
@@ -340,8 +377,9 @@ fn bench(c: &mut Criterion) {
     g.bench_function("gauss_radau_eps1e-9", |b| {
         b.iter(|| gr_rv(black_box(&sys), &ep, 1e-9, &mut out))
     });
-    // Baselines: the 2015 step rule with the general loop (the code before
-    // this bench's last change) and with the fixed-size loop.
+    // Baselines: the 2015 step rule and iteration stop with the general
+    // loop (the code before the step-rule change) and with the fixed-size
+    // loop.
     for (name, general) in [("general_loop", true), ("fixed_loop", false)] {
         g.bench_function(format!("gauss_radau_eps1e-9_rule2015_{name}"), |b| {
             b.iter(|| {
@@ -351,6 +389,7 @@ fn bench(c: &mut Criterion) {
                     1e-9,
                     StepCriterion::Global2015,
                     general,
+                    IterationStop::RoundOff2015,
                     &mut out,
                 )
             })
@@ -364,6 +403,20 @@ fn bench(c: &mut Criterion) {
                 1e-9,
                 StepCriterion::PerBody2024,
                 true,
+                IterationStop::PredictedRate,
+                &mut out,
+            )
+        })
+    });
+    // Baseline of the iteration stop: the default but with the stop of
+    // Rein & Spiegel (2015) as published (the code before that change).
+    g.bench_function("gauss_radau_eps1e-9_stop2015", |b| {
+        b.iter(|| {
+            gr_rv_stop(
+                black_box(&sys),
+                &ep,
+                1e-9,
+                IterationStop::RoundOff2015,
                 &mut out,
             )
         })
@@ -376,6 +429,17 @@ fn bench(c: &mut Criterion) {
             format!("gauss_radau_eps{eps:.0e}_matching_tol{tol:.0e}"),
             |b| b.iter(|| gr_rv(black_box(&sys), &ep, eps, &mut out)),
         );
+        g.bench_function(format!("gauss_radau_eps{eps:.0e}_stop2015"), |b| {
+            b.iter(|| {
+                gr_rv_stop(
+                    black_box(&sys),
+                    &ep,
+                    eps,
+                    IterationStop::RoundOff2015,
+                    &mut out,
+                )
+            })
+        });
     }
     g.finish();
 }
