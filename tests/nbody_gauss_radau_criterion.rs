@@ -8,22 +8,10 @@
 #[path = "nbody_support/mod.rs"]
 mod support;
 
-use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings, StepCriterion};
-use apsidal::nbody::{EventSettings, Integrator, Snapshot, System};
-use apsidal::units::au_per_day_to_m_s;
+use apsidal::nbody::gauss_radau::{GaussRadau, StepCriterion};
+use apsidal::nbody::{Integrator, Snapshot, System};
 
 const T_REF: f64 = 2000.0;
-
-fn settings(eps: f64) -> GaussRadauSettings {
-    GaussRadauSettings {
-        tolerance: eps,
-        events: EventSettings {
-            stop_on_event: false,
-            ..EventSettings::default()
-        },
-        ..GaussRadauSettings::default()
-    }
-}
 
 /// Star RVs (m/s) every 10 d over 0..4000 d from t_ref = 2000 d both ways,
 /// and the force-evaluation count.
@@ -33,40 +21,19 @@ fn rvs(sys: &System, eps: f64, crit: StepCriterion) -> (Vec<f64>, u64) {
 
 /// As [`rvs`], optionally forcing the general (slice-based) inner loop.
 fn rvs_with(sys: &System, eps: f64, crit: StepCriterion, general: bool) -> (Vec<f64>, u64) {
-    let epochs: Vec<f64> = (0..400).map(|i| i as f64 * 10.0).collect();
-    let split = epochs.partition_point(|t| *t < T_REF);
-    let mut out = vec![0.0; epochs.len()];
-    let mut snap = Snapshot::zeros(sys.masses.len(), 0.0);
-    let mut evals = 0;
-    for forward in [true, false] {
-        let mut gr = GaussRadau::new(sys.clone(), settings(eps)).unwrap();
+    let (out, counts) = support::gr_star_rvs(sys, T_REF, support::gr_settings(eps), |gr| {
         gr.set_step_criterion(crit);
         gr.set_general_loop(general);
-        let idx: Vec<usize> = if forward {
-            (split..epochs.len()).collect()
-        } else {
-            (0..split).rev().collect()
-        };
-        for i in idx {
-            gr.advance_to(epochs[i], &mut snap).unwrap();
-            out[i] = au_per_day_to_m_s(snap.vel[0].z);
-        }
-        evals += gr.steps() + gr.rejected_steps() + 7 * gr.iterations();
+    });
+    for (c, forward) in counts.iter().zip([true, false]) {
         println!(
             "ε = {eps:.0e}, {crit:?}, forward = {forward}: {} steps, {} rejected, {:.3} iterations per step",
-            gr.steps(),
-            gr.rejected_steps(),
-            gr.iterations() as f64 / (gr.steps() + gr.rejected_steps()) as f64
+            c.steps,
+            c.rejected,
+            c.iterations as f64 / (c.steps + c.rejected) as f64
         );
     }
-    (out, evals)
-}
-
-fn max_diff(a: &[f64], b: &[f64]) -> f64 {
-    a.iter()
-        .zip(b)
-        .map(|(x, y)| (x - y).abs())
-        .fold(0.0, f64::max)
+    (out, counts.iter().map(|c| c.evaluations()).sum())
 }
 
 #[test]
@@ -76,7 +43,7 @@ fn per_body_rule_keeps_round_off_rv_accuracy() {
     for eps in [1e-10, 1e-9, 1e-8] {
         let (g, ng) = rvs(&sys, eps, StepCriterion::Global2015);
         let (p, np) = rvs(&sys, eps, StepCriterion::PerBody2024);
-        let (eg, ep) = (max_diff(&g, &tight), max_diff(&p, &tight));
+        let (eg, ep) = (support::max_diff(&g, &tight), support::max_diff(&p, &tight));
         println!(
             "ε = {eps:.0e}: global {eg:.2e} m/s, {ng} evaluations; per-body {ep:.2e} m/s, {np} evaluations"
         );
@@ -96,7 +63,7 @@ fn per_body_rule_is_time_reversible_and_conserves_energy() {
     // and the relative energy error stays ≤ 1e-13 (conservation law).
     let sys = support::two_giants(0.0);
     let e0 = sys.energy();
-    let mut gr = GaussRadau::new(sys.clone(), settings(1e-9)).unwrap();
+    let mut gr = GaussRadau::new(sys.clone(), support::gr_settings(1e-9)).unwrap();
     assert_eq!(gr.step_criterion(), StepCriterion::PerBody2024);
     let mut snap = Snapshot::zeros(3, 0.0);
     gr.advance_to(1000.0, &mut snap).unwrap();

@@ -8,53 +8,22 @@
 #[path = "nbody_support/mod.rs"]
 mod support;
 
+use apsidal::nbody::System;
 use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings, IterationStop, StepCriterion};
-use apsidal::nbody::{EventSettings, Integrator, Snapshot, System};
-use apsidal::units::au_per_day_to_m_s;
 
 const T_REF: f64 = 2000.0;
 
 /// Star RVs (m/s) every 10 d over 0..4000 d from t_ref both ways, the
 /// force-evaluation count and the iterations per step.
 fn rvs(sys: &System, eps: f64, crit: StepCriterion, stop: IterationStop) -> (Vec<f64>, u64, f64) {
-    let settings = GaussRadauSettings {
-        tolerance: eps,
-        events: EventSettings {
-            stop_on_event: false,
-            ..EventSettings::default()
-        },
-        ..GaussRadauSettings::default()
-    };
-    let epochs: Vec<f64> = (0..400).map(|i| i as f64 * 10.0).collect();
-    let split = epochs.partition_point(|t| *t < T_REF);
-    let mut out = vec![0.0; epochs.len()];
-    let mut snap = Snapshot::zeros(sys.masses.len(), 0.0);
-    let (mut evals, mut iters, mut steps) = (0, 0, 0);
-    for forward in [true, false] {
-        let mut gr = GaussRadau::new(sys.clone(), settings).unwrap();
+    let (out, counts) = support::gr_star_rvs(sys, T_REF, support::gr_settings(eps), |gr| {
         gr.set_step_criterion(crit);
         gr.set_iteration_stop(stop);
-        let idx: Vec<usize> = if forward {
-            (split..epochs.len()).collect()
-        } else {
-            (0..split).rev().collect()
-        };
-        for i in idx {
-            gr.advance_to(epochs[i], &mut snap).unwrap();
-            out[i] = au_per_day_to_m_s(snap.vel[0].z);
-        }
-        evals += gr.steps() + gr.rejected_steps() + 7 * gr.iterations();
-        iters += gr.iterations();
-        steps += gr.steps() + gr.rejected_steps();
-    }
+    });
+    let evals = counts.iter().map(|c| c.evaluations()).sum();
+    let iters: u64 = counts.iter().map(|c| c.iterations).sum();
+    let steps: u64 = counts.iter().map(|c| c.steps + c.rejected).sum();
     (out, evals, iters as f64 / steps as f64)
-}
-
-fn max_diff(a: &[f64], b: &[f64]) -> f64 {
-    a.iter()
-        .zip(b)
-        .map(|(x, y)| (x - y).abs())
-        .fold(0.0, f64::max)
 }
 
 #[test]
@@ -83,9 +52,9 @@ fn predicted_rate_stop_saves_iterations_at_round_off_accuracy() {
     let (old, n_old, it_old) = rvs(&sys, 1e-9, crit, IterationStop::RoundOff2015);
     let (new, n_new, it_new) = rvs(&sys, 1e-9, crit, IterationStop::PredictedRate);
     let (d_new_old, d_new_tight, d_old_tight) = (
-        max_diff(&new, &old),
-        max_diff(&new, &tight),
-        max_diff(&old, &tight),
+        support::max_diff(&new, &old),
+        support::max_diff(&new, &tight),
+        support::max_diff(&old, &tight),
     );
     println!(
         "ε = 1e-9: iterations/step {it_old:.3} → {it_new:.3}, evaluations {n_old} → {n_new}; \
@@ -103,7 +72,10 @@ fn predicted_rate_stop_saves_iterations_at_round_off_accuracy() {
     // 21 977 → 13 101 evaluations, error from tight 1.43e-9 → 1.50e-9.
     let (old, n_old, it_old) = rvs(&sys, 1e-6, crit, IterationStop::RoundOff2015);
     let (new, n_new, it_new) = rvs(&sys, 1e-6, crit, IterationStop::PredictedRate);
-    let (e_old, e_new) = (max_diff(&old, &tight), max_diff(&new, &tight));
+    let (e_old, e_new) = (
+        support::max_diff(&old, &tight),
+        support::max_diff(&new, &tight),
+    );
     println!(
         "ε = 1e-6: iterations/step {it_old:.3} → {it_new:.3}, evaluations {n_old} → {n_new}; \
          max |Δv| from tight {e_old:.2e} → {e_new:.2e} m/s"

@@ -4,8 +4,9 @@
 #![allow(dead_code)]
 
 use apsidal::kepler::{Elements, a_from_period, elements_to_state};
-use apsidal::nbody::{Snapshot, System};
-use apsidal::units::{G, M_JUPITER_IN_SUN, deg};
+use apsidal::nbody::gauss_radau::{GaussRadau, GaussRadauSettings};
+use apsidal::nbody::{EventSettings, Integrator, Snapshot, System};
+use apsidal::units::{G, M_JUPITER_IN_SUN, au_per_day_to_m_s, deg};
 use nalgebra::Vector3;
 
 /// One planet: mass (M☉), period (days, of its Jacobi orbit) and elements
@@ -85,4 +86,80 @@ pub fn two_giants(t: f64) -> System {
         },
     ];
     from_jacobi(0.8, &planets, t)
+}
+
+/// Gauss–Radau settings at tolerance `eps` with events recorded, not
+/// stopping the run.
+pub fn gr_settings(eps: f64) -> GaussRadauSettings {
+    GaussRadauSettings {
+        tolerance: eps,
+        events: EventSettings {
+            stop_on_event: false,
+            ..EventSettings::default()
+        },
+        ..GaussRadauSettings::default()
+    }
+}
+
+/// Steps, rejected steps and predictor–corrector iterations of one run.
+#[derive(Debug, Clone, Copy)]
+pub struct GrCounts {
+    pub steps: u64,
+    pub rejected: u64,
+    pub iterations: u64,
+}
+
+impl GrCounts {
+    /// Force evaluations: one per step attempt plus seven per iteration.
+    pub fn evaluations(&self) -> u64 {
+        self.steps + self.rejected + 7 * self.iterations
+    }
+}
+
+/// Star RVs (m/s) of `sys` every 10 d over 0..4000 d, integrated by
+/// Gauss–Radau with `settings` both ways from `t_ref` (each integrator
+/// set up by `configure` first), and the counts of the forward and the
+/// backward run.
+pub fn gr_star_rvs(
+    sys: &System,
+    t_ref: f64,
+    settings: GaussRadauSettings,
+    configure: impl Fn(&mut GaussRadau),
+) -> (Vec<f64>, [GrCounts; 2]) {
+    let epochs: Vec<f64> = (0..400).map(|i| i as f64 * 10.0).collect();
+    let split = epochs.partition_point(|t| *t < t_ref);
+    let mut out = vec![0.0; epochs.len()];
+    let mut snap = Snapshot::zeros(sys.masses.len(), 0.0);
+    let mut counts = [GrCounts {
+        steps: 0,
+        rejected: 0,
+        iterations: 0,
+    }; 2];
+    for (d, forward) in [true, false].into_iter().enumerate() {
+        let mut gr = GaussRadau::new(sys.clone(), settings).unwrap();
+        configure(&mut gr);
+        let idx: Vec<usize> = if forward {
+            (split..epochs.len()).collect()
+        } else {
+            (0..split).rev().collect()
+        };
+        for i in idx {
+            gr.advance_to(epochs[i], &mut snap).unwrap();
+            out[i] = au_per_day_to_m_s(snap.vel[0].z);
+        }
+        counts[d] = GrCounts {
+            steps: gr.steps(),
+            rejected: gr.rejected_steps(),
+            iterations: gr.iterations(),
+        };
+    }
+    (out, counts)
+}
+
+/// Largest absolute difference of two series.
+pub fn max_diff(a: &[f64], b: &[f64]) -> f64 {
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y).abs())
+        .fold(0.0, f64::max)
 }
